@@ -245,7 +245,7 @@ func (m *VerticalMap) checkMeasure(dst []float64, n int, mass []float64) {
 	}
 }
 
-// NSource and NTarget return the number of degrees of freedom per column on each side.
+// NSource returns the number of source degrees of freedom per column.
 func (m *VerticalMap) NSource() int { return m.srcFrac.Rows }
 
 // NTarget returns the number of target degrees of freedom per column.
