@@ -32,16 +32,17 @@ func PolygonExpMean(kx, ky float64, vs []r3.Vec) complex128 {
 		if cr == 0 {
 			continue
 		}
-		z0 := kx*o.X + ky*o.Y
-		z1 := kx*a.X + ky*a.Y
-		z2 := kx*b.X + ky*b.Y
-		sum += complex(2*cr, 0) * expDivDiff3(z0, z1, z2)
+		// Phases relative to the first vertex; e^{ik·o} is factored out below, so
+		// cells far from the origin lose nothing in the divided differences.
+		z1 := kx*(a.X-o.X) + ky*(a.Y-o.Y)
+		z2 := kx*(b.X-o.X) + ky*(b.Y-o.Y)
+		sum += complex(2*cr, 0) * expDivDiff3(0, z1, z2)
 		area += cr
 	}
 	if area == 0 {
 		return 0
 	}
-	return sum / complex(area, 0)
+	return cmplx.Exp(complex(0, kx*o.X+ky*o.Y)) * sum / complex(area, 0)
 }
 
 // expDivDiff3 returns the divided difference of exp at i·a, i·b, i·c.

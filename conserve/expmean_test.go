@@ -102,12 +102,14 @@ func TestPolygonExpMeanDegenerateNodes(t *testing.T) {
 	}
 }
 
-// polygonArea is the shoelace area.
+// polygonArea is the shoelace area, relative to the first vertex (no cancellation for
+// small polygons far from the origin).
 func polygonArea(vs []r3.Vec) float64 {
 	a := 0.0
+	o := vs[0]
 	for i := range vs {
 		p, q := vs[i], vs[(i+1)%len(vs)]
-		a += p.X*q.Y - q.X*p.Y
+		a += (p.X-o.X)*(q.Y-o.Y) - (q.X-o.X)*(p.Y-o.Y)
 	}
 	return a / 2
 }

@@ -86,7 +86,18 @@ type FourierReport struct {
 	// Per-mode data for the plots.
 	modes    []ModeResponse
 	spectrum []ModeResponse // output wavelength, max amplitude from smooth inputs
+	transfer [][]complex128 // transfer[in][out], kept up to MaxTransfer modes
 }
+
+// MaxTransfer is the largest number of modes for which FourierAnalysis keeps the full
+// transfer matrix (N² complex numbers: 16 MB at 1024 modes).
+const MaxTransfer = 1024
+
+// Transfer returns the full transfer matrix of the round trip in Fourier space:
+// Transfer()[in][out] is the coefficient of output mode out when the input is mode in
+// (with amplitude 1), modes indexed as in ModeResponses. It is nil above MaxTransfer
+// modes.
+func (f *FourierReport) Transfer() [][]complex128 { return f.transfer }
 
 // ModeResponse is one Fourier mode: its wavenumber, wavelength in grid lengths (+Inf for
 // k = 0) and a response or amplitude.
@@ -94,7 +105,8 @@ type ModeResponse struct {
 	KX, KY, Wavelength, Value float64
 }
 
-// Modes returns the per-mode responses (amplitude kept per input mode).
+// ModeResponses returns the per-mode responses (amplitude kept per input mode), in mode
+// order: Bloch class q·nx + p, then the representatives of the class by increasing |k|.
 func (f *FourierReport) ModeResponses() []ModeResponse { return f.modes }
 
 // Spectrum returns, per output mode, the largest amplitude that any smooth input (other
@@ -374,6 +386,12 @@ func FourierAnalysis(m *grids.Mesh, ms []float64, r []*weights.CSR, w, wAdj *wei
 			fft.transform(Y, y)
 			fb.coefficients(coef, Y)
 			response[mode] = cmplx.Abs(coef[mode])
+			if n <= MaxTransfer {
+				if rep.transfer == nil {
+					rep.transfer = make([][]complex128, n)
+				}
+				rep.transfer[mode] = append([]complex128(nil), coef...)
+			}
 			if fb.wavelength(mode) < smoothL {
 				continue
 			}

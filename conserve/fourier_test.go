@@ -52,6 +52,22 @@ func TestCheckerboardRemovedByCoarsening(t *testing.T) {
 		if math.Abs(f.ConstantResponse-1) > tolSymbol {
 			t.Errorf("n=%d: constant response %g, want 1 (W and W* are consistent)", n, f.ConstantResponse)
 		}
+		// The round trip is invariant under shifts by 2 cells, so it couples each mode
+		// only with its aliases k + (π/dx)(a, b), a, b ∈ {0, 1} (Bloch's theorem).
+		tr := f.Transfer()
+		modes := f.ModeResponses()
+		for in := range tr {
+			for out, c := range tr[in] {
+				dx := math.Remainder((modes[out].KX-modes[in].KX)*fine.Lx/(2*math.Pi), float64(n))
+				dy := math.Remainder((modes[out].KY-modes[in].KY)*fine.Ly/(2*math.Pi), float64(n))
+				if (math.Abs(dx) > 1e-9 || math.Abs(dy) > 1e-9) && cmplxAbs(c) > tolSymbol {
+					t.Fatalf("n=%d: mode %d feeds mode %d (not an alias) with %v", n, in, out, c)
+				}
+			}
+			if math.Abs(cmplxAbs(tr[in][in])-modes[in].Value) > 0 {
+				t.Fatalf("transfer diagonal differs from the response")
+			}
+		}
 		// A piecewise-constant prolongation makes grid-scale copies of smooth waves:
 		// some noise must be reported, but less than the whole output.
 		if !(f.NoiseMax > 0.01 && f.NoiseMax < 1) {
@@ -196,5 +212,65 @@ func TestFourierTriangles(t *testing.T) {
 	// Fourier mode is sub-grid (wavelength below 2 lattice lengths).
 	if f.Symbol.SmoothestInvisibleWavelength >= 2 {
 		t.Errorf("pair average: smoothest invisible wavelength %g, want < 2", f.Symbol.SmoothestInvisibleWavelength)
+	}
+}
+
+func cmplxAbs(c complex128) float64 { return math.Hypot(real(c), imag(c)) }
+
+// overlapLine returns the first-order conservative map from a periodic line of ns equal
+// cells onto one of nt equal cells (both of length 1): weight = overlap length / target
+// length (the 1-D form of Jones 1999), computed by hand from the interval ends.
+func overlapLine(ns, nt int) *weights.CSR {
+	var ts []weights.Triplet
+	for t := 0; t < nt; t++ {
+		a, b := float64(t)/float64(nt), float64(t+1)/float64(nt)
+		for s := 0; s < ns; s++ {
+			c, d := float64(s)/float64(ns), float64(s+1)/float64(ns)
+			if ov := math.Min(b, d) - math.Max(a, c); ov > 0 {
+				ts = append(ts, weights.Triplet{Row: int32(t), Col: int32(s), Value: ov * float64(nt)})
+			}
+		}
+	}
+	return weights.FromTriplets(nt, ns, ts)
+}
+
+// TestFourierUnalignedLines: the conservative map from 12 cells onto 5 and its adjoint
+// form a round trip that is invariant only under the full period, so modes of different
+// classes couple (measured: one block of 11 classes; the test asks for at least 5); the
+// map has rank 5 (its rows have nested, distinct supports), so 7 modes are
+// invisible (linear algebra), the constant is kept (consistency), and with MaxBlock below
+// 12 the symbol is skipped with an error while the response is still reported.
+func TestFourierUnalignedLines(t *testing.T) {
+	src, err := grids.NewLine(12, 1, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	tgt, err := grids.NewLine(5, 1, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := overlapLine(12, 5)
+	wAdj := Adjoint(w, src.CellArea, tgt.CellArea)
+	// Interval ends t/5 and s/12 are rounded; overlaps as short as 1/60 turn that into
+	// ≈ 1e-15 relative errors of the weights.
+	if d := conservationDefect(w, src.CellArea, tgt.CellArea, nil); d > 1e-14 {
+		t.Fatalf("hand-built overlap map not conservative: %g", d)
+	}
+	f, err := FourierAnalysis(src, src.CellArea, []*weights.CSR{wAdj, w}, w, wAdj, FourierOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(f.ConstantResponse-1) > tolSymbol {
+		t.Errorf("constant response %g", f.ConstantResponse)
+	}
+	if f.Symbol.LargestBlock < 5 || f.Symbol.InvisibleDimension != 7 {
+		t.Errorf("largest block %d, invisible %d; want ≥ 5 coupled classes and 7", f.Symbol.LargestBlock, f.Symbol.InvisibleDimension)
+	}
+	if f.NoiseMax <= 0 {
+		t.Errorf("noise %g, want > 0 for a piecewise-constant round trip", f.NoiseMax)
+	}
+	g, err := FourierAnalysis(src, src.CellArea, []*weights.CSR{wAdj, w}, w, wAdj, FourierOptions{MaxBlock: 4})
+	if err == nil || g == nil || g.Symbol != nil || g.ConstantResponse != f.ConstantResponse {
+		t.Errorf("MaxBlock 4: err %v, report %v; want an error and the response without symbol", err, g != nil)
 	}
 }

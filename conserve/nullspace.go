@@ -14,8 +14,8 @@ import (
 // NullSpaceOptions tunes the null-space analysis of the restriction (check 6c).
 type NullSpaceOptions struct {
 	// DenseMax: up to this many sources the analysis is a dense SVD (0 means 1024; the
-	// SVD of a 1024-column matrix takes about 1.1 s on this project's 2-core machine);
-	// above it, Lanczos.
+	// SVD of a 1024-column matrix takes about 1.1 s on this project's 2-core machine)
+	// when there are also at most 4·DenseMax targets; otherwise Lanczos.
 	DenseMax int
 	// Tol: singular values σ ≤ Tol·σ_max count as null (0 means 1e-6). Lanczos resolves
 	// σ² to about 1e-16·σ_max², so Tol should stay above 1e-7 on large meshes.
@@ -66,7 +66,8 @@ type NullSpaceReport struct {
 	mode []float64
 }
 
-// WorstMode returns the worst null mode on the sources, scaled to max |x| = 1: the
+// WorstMode returns the worst null mode on the sources, scaled to max |x| = 1 with a
+// positive largest entry (the first, among equal magnitudes): the
 // smoothest null vector when adjacency is known and the null space has dimension > 1,
 // else the singular vector of the smallest singular value.
 func (r *NullSpaceReport) WorstMode() []float64 { return r.mode }
@@ -94,7 +95,8 @@ func NullSpace(w *weights.CSR, ms, mt []float64, opt NullSpaceOptions) (*NullSpa
 			sqt[i] = math.Sqrt(math.Max(mt[i], 0))
 		}
 	}
-	if w.Cols <= opt.denseMax() {
+	// The dense path holds a max(rows, cols) × cols matrix: also bound the rows.
+	if w.Cols <= opt.denseMax() && w.Rows <= 4*opt.denseMax() {
 		return denseNullSpace(w, sqs, sqt, opt)
 	}
 	return lanczosNullSpace(w, sqs, sqt, opt)
@@ -245,6 +247,10 @@ func (r *NullSpaceReport) setWorst(basis [][]float64, svs []float64, sqs []float
 		}
 	}
 	if big > 0 {
+		// Scale to max |x| = 1 with a positive peak, so the sign is reproducible.
+		if x[at] < 0 {
+			big = -big
+		}
 		for j := range x {
 			x[j] /= big
 		}
