@@ -142,3 +142,45 @@ func TestZonalSweep(t *testing.T) {
 		}
 	})
 }
+
+// TestDestinationsOverwritten: destination-first functions overwrite every entry of a
+// NaN-filled destination, and HighPassTo may alias its input (common practice for
+// destination-first APIs, STYLE.md).
+func TestDestinationsOverwritten(t *testing.T) {
+	m := planeQuads(t, 6)
+	n := m.NumCells()
+	nan := func(k int) []float64 {
+		x := make([]float64, k)
+		for i := range x {
+			x[i] = math.NaN()
+		}
+		return x
+	}
+	x := make([]float64, n)
+	for i := range x {
+		x[i] = float64(i % 7)
+	}
+	want := make([]float64, n)
+	HighPassTo(want, x, Adjacency(m), 2)
+	got := nan(n)
+	HighPassTo(got, x, Adjacency(m), 2)
+	alias := append([]float64(nil), x...)
+	HighPassTo(alias, alias, Adjacency(m), 2)
+	for i := range want {
+		if got[i] != want[i] || alias[i] != want[i] {
+			t.Fatalf("HighPassTo[%d]: %g (NaN dst) and %g (aliased), want %g", i, got[i], alias[i], want[i])
+		}
+	}
+	means := nan(n)
+	if err := CellMeansTo(means, m, func(p r3.Vec) float64 { return p.Y }, 3); err != nil {
+		t.Fatal(err)
+	}
+	w := coarsen2(3)
+	c := nan(w.Cols)
+	ColumnSumsTo(c, w, m.CellArea, planeQuads(t, 3).CellArea)
+	for i := range means {
+		if math.IsNaN(means[i]) || math.IsNaN(c[i]) {
+			t.Fatalf("entry %d left NaN", i)
+		}
+	}
+}

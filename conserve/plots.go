@@ -479,7 +479,7 @@ func plotSpectrum(r *Report) (*Plot, error) {
 	if len(pts) == 0 {
 		return nil, nil
 	}
-	p := newPlot("Noise spectrum: where smooth inputs (wavelength ≥ 8) end up", "output wavelength (grid lengths)", "largest amplitude received (input 1)")
+	p := newPlot("Noise spectrum: where smooth inputs (wavelength ≥ 8) end up", "output wavelength (grid lengths)", "amplitude received")
 	sc, err := plotter.NewScatter(pts)
 	if err != nil {
 		return nil, err
