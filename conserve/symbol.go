@@ -125,6 +125,11 @@ func symbolAnalysis(fb *fourierBasis, fft *blochFFT, w, wAdj *weights.CSR, opt F
 					uf.union(int32(i), int32(col))
 				}
 			}
+			// A column coupling more components than a block may hold means the map is
+			// not translation invariant on a coarse lattice; stop before storing O(N²).
+			if len(cols[col]) > opt.maxBlock() {
+				return nil, fmt.Errorf("symbol analysis: the restriction couples more than %d Bloch components (MaxBlock): it is not translation invariant on a coarse lattice", opt.maxBlock())
+			}
 		}
 	}
 	groups := map[int32][]int32{}
