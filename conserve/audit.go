@@ -16,8 +16,8 @@ import (
 // prolongation whose sizes do not match the map).
 //
 // Cost without opt.Spectral: O(nnz) per test field and probe plus a transpose; a map
-// with 4.2 million entries audits in about 2 s on the project's 2-core machine
-// (BenchmarkAudit) and needs about 0.8 GB of scratch. With opt.Spectral: see
+// with 4.2 million entries audits in about 1.1 s on the project's 2-core machine
+// (BenchmarkAudit; 2–4 s while other jobs share it) and needs about 0.8 GB of scratch. With opt.Spectral: see
 // FourierAnalysis, SphereNoise and NullSpace.
 func Audit(m *weights.Map, opt Options) (*Report, error) {
 	if err := m.Check(); err != nil {
