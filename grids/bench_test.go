@@ -46,3 +46,31 @@ func BenchmarkIcosahedralDual(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkUGRIDWriteRead writes the cubed sphere N=384 (884,736 cells) as UGRID NetCDF and
+// reads it back. Goal (issue 2): ≤ 3 s each.
+func BenchmarkUGRIDWriteRead(b *testing.B) {
+	m, err := grids.NewCubedSphere(384, 0)
+	if err != nil {
+		b.Fatal(err)
+	}
+	path := b.TempDir() + "/c384.nc"
+	b.Run("write", func(b *testing.B) {
+		for i := 0; i < b.N; i++ {
+			if err := grids.WriteUGRID(path, m); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+	b.Run("read", func(b *testing.B) {
+		for i := 0; i < b.N; i++ {
+			r, err := grids.ReadMesh(path)
+			if err != nil {
+				b.Fatal(err)
+			}
+			if r.NumCells() != m.NumCells() {
+				b.Fatal("wrong size")
+			}
+		}
+	})
+}

@@ -1,6 +1,8 @@
 package grids
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"fmt"
 	"math"
 )
@@ -156,4 +158,19 @@ func (l *Levels) Points(s Staggering) []float64 {
 		return append([]float64(nil), l.Interfaces...)
 	}
 	return l.Midpoints()
+}
+
+// Fingerprint returns the identity of the levels: "sha256:" and 32 hex digits of the hash
+// of the coordinate and the exact interface values.
+func (l *Levels) Fingerprint() string {
+	h := sha256.New()
+	w := fpWriter{h: h}
+	h.Write([]byte("colbridge-levels-fp-1"))
+	w.u64(uint64(l.Coord))
+	w.u64(uint64(len(l.Interfaces)))
+	for _, z := range l.Interfaces {
+		w.f64(z)
+	}
+	w.flush()
+	return "sha256:" + hex.EncodeToString(h.Sum(nil)[:16])
 }

@@ -73,6 +73,9 @@ type Location struct {
 // String returns "cell", "edge-normal/layer" and so on: the vertical part is omitted for
 // 2-D fields.
 func (l Location) String() string {
+	if l.H == 0 {
+		return l.V.String() // a vertical factor
+	}
 	if l.V == NoLevels {
 		return l.H.String()
 	}
@@ -81,6 +84,12 @@ func (l Location) String() string {
 
 // ParseLocation parses the form String writes.
 func ParseLocation(s string) (Location, error) {
+	switch s {
+	case "layer":
+		return Location{V: Layer}, nil
+	case "interface":
+		return Location{V: Interface}, nil
+	}
 	hs, vs, _ := strings.Cut(s, "/")
 	var loc Location
 	for h, name := range hNames {
