@@ -8,6 +8,7 @@ import (
 	"time"
 
 	"github.com/colbridge/colbridge/grids"
+	"github.com/colbridge/colbridge/internal/version"
 )
 
 // Side describes one end of a map: which mesh, which location, how many degrees of
@@ -99,7 +100,7 @@ func (m *Map) Check() error {
 func (m *Map) ApplyTo(dst, src []float64) { m.W.ApplyTo(dst, src) }
 
 // Version is the colbridge version recorded in provenance.
-var Version = "0.1.0-dev"
+const Version = version.Version
 
 // NewProvenance returns provenance for a map made now by the given command line. The time
 // is taken from the SOURCE_DATE_EPOCH environment variable (seconds since 1970, the

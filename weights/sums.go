@@ -1,10 +1,12 @@
 package weights
 
-// kahan is a Neumaier (improved Kahan–Babuška) accumulator: the error of the sum stays
-// about one rounding of the result, independent of the number of terms.
-type kahan struct{ s, c float64 }
+// Accumulator is a Neumaier (improved Kahan–Babuška) compensated sum: the error of the sum
+// stays about one rounding of the result, independent of the number of terms (Higham,
+// Accuracy and Stability of Numerical Algorithms, §4.3). The zero value is an empty sum.
+type Accumulator struct{ s, c float64 }
 
-func (k *kahan) add(x float64) {
+// Add adds x to the sum.
+func (k *Accumulator) Add(x float64) {
 	t := k.s + x
 	if abs(k.s) >= abs(x) {
 		k.c += (k.s - t) + x
@@ -14,7 +16,8 @@ func (k *kahan) add(x float64) {
 	k.s = t
 }
 
-func (k *kahan) sum() float64 { return k.s + k.c }
+// Sum returns the compensated sum so far.
+func (k *Accumulator) Sum() float64 { return k.s + k.c }
 
 func abs(x float64) float64 {
 	if x < 0 {
@@ -30,11 +33,11 @@ func (w *CSR) RowSumsTo(dst []float64) {
 		panic("weights: RowSumsTo: wrong length")
 	}
 	for i := 0; i < w.Rows; i++ {
-		var k kahan
+		var k Accumulator
 		for p := w.RowStart[i]; p < w.RowStart[i+1]; p++ {
-			k.add(w.Values[p])
+			k.Add(w.Values[p])
 		}
-		dst[i] = k.sum()
+		dst[i] = k.Sum()
 	}
 }
 
@@ -45,28 +48,28 @@ func (w *CSR) ColSumsTo(dst, r []float64) {
 	if len(dst) != w.Cols || (r != nil && len(r) != w.Rows) {
 		panic("weights: ColSumsTo: wrong length")
 	}
-	acc := make([]kahan, w.Cols)
+	acc := make([]Accumulator, w.Cols)
 	for i := 0; i < w.Rows; i++ {
 		ri := 1.0
 		if r != nil {
 			ri = r[i]
 		}
 		for p := w.RowStart[i]; p < w.RowStart[i+1]; p++ {
-			acc[w.ColIndex[p]].add(ri * w.Values[p])
+			acc[w.ColIndex[p]].Add(ri * w.Values[p])
 		}
 	}
 	for j := range dst {
-		dst[j] = acc[j].sum()
+		dst[j] = acc[j].Sum()
 	}
 }
 
 // Sum returns the compensated sum of xs.
 func Sum(xs []float64) float64 {
-	var k kahan
+	var k Accumulator
 	for _, x := range xs {
-		k.add(x)
+		k.Add(x)
 	}
-	return k.sum()
+	return k.Sum()
 }
 
 // Dot returns the compensated sum of a[i]·b[i]. It panics if the lengths differ.
@@ -74,9 +77,9 @@ func Dot(a, b []float64) float64 {
 	if len(a) != len(b) {
 		panic("weights: Dot: lengths differ")
 	}
-	var k kahan
+	var k Accumulator
 	for i := range a {
-		k.add(a[i] * b[i])
+		k.Add(a[i] * b[i])
 	}
-	return k.sum()
+	return k.Sum()
 }
