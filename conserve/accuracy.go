@@ -31,7 +31,7 @@ func Norms(h, hT, m []float64, covered []bool) ErrorNorms {
 	if len(h) != len(hT) || len(m) != len(h) || (covered != nil && len(covered) != len(h)) {
 		panic("conserve: Norms: lengths differ")
 	}
-	var e1, t1, e2, t2 kahan
+	var e1, t1, e2, t2 weights.Accumulator
 	var emax, tmax float64
 	at := -1
 	for i := range h {
@@ -39,10 +39,10 @@ func Norms(h, hT, m []float64, covered []bool) ErrorNorms {
 			continue
 		}
 		d := math.Abs(h[i] - hT[i])
-		e1.add(m[i] * d)
-		t1.add(m[i] * math.Abs(hT[i]))
-		e2.add(m[i] * d * d)
-		t2.add(m[i] * hT[i] * hT[i])
+		e1.Add(m[i] * d)
+		t1.Add(m[i] * math.Abs(hT[i]))
+		e2.Add(m[i] * d * d)
+		t2.Add(m[i] * hT[i] * hT[i])
 		if d > emax || at < 0 {
 			emax, at = d, i
 		}
@@ -55,8 +55,8 @@ func Norms(h, hT, m []float64, covered []bool) ErrorNorms {
 		return a
 	}
 	return ErrorNorms{
-		L1:     ratio(e1.sum(), t1.sum()),
-		L2:     ratio(math.Sqrt(math.Max(e2.sum(), 0)), math.Sqrt(math.Max(t2.sum(), 0))),
+		L1:     ratio(e1.Sum(), t1.Sum()),
+		L2:     ratio(math.Sqrt(math.Max(e2.Sum(), 0)), math.Sqrt(math.Max(t2.Sum(), 0))),
 		LInf:   ratio(emax, tmax),
 		LInfAt: at,
 	}

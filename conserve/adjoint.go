@@ -75,7 +75,7 @@ func CheckPair(w, p *weights.CSR, sd PairSides, probes int, seed uint64) PairRep
 	}
 	ws := Adjoint(w, sd.MS, sd.MT)
 	r := PairReport{MaxEntryRow: -1, MaxEntryCol: -1, Probes: probes}
-	var diff, norm, pnorm kahan
+	var diff, norm, pnorm weights.Accumulator
 	for i := 0; i < ws.Rows; i++ {
 		a, aEnd := ws.RowStart[i], ws.RowStart[i+1]
 		b, bEnd := p.RowStart[i], p.RowStart[i+1]
@@ -85,30 +85,30 @@ func CheckPair(w, p *weights.CSR, sd PairSides, probes int, seed uint64) PairRep
 			switch {
 			case b >= bEnd || (a < aEnd && ws.ColIndex[a] < p.ColIndex[b]):
 				j, d = ws.ColIndex[a], -ws.Values[a]
-				norm.add(ws.Values[a] * ws.Values[a])
+				norm.Add(ws.Values[a] * ws.Values[a])
 				a++
 			case a >= aEnd || p.ColIndex[b] < ws.ColIndex[a]:
 				j, d = p.ColIndex[b], p.Values[b]
-				pnorm.add(d * d)
+				pnorm.Add(d * d)
 				b++
 			default:
 				j, d = p.ColIndex[b], p.Values[b]-ws.Values[a]
-				norm.add(ws.Values[a] * ws.Values[a])
-				pnorm.add(p.Values[b] * p.Values[b])
+				norm.Add(ws.Values[a] * ws.Values[a])
+				pnorm.Add(p.Values[b] * p.Values[b])
 				a++
 				b++
 			}
-			diff.add(d * d)
+			diff.Add(d * d)
 			if math.Abs(d) > r.MaxEntryDifference {
 				r.MaxEntryDifference, r.MaxEntryRow, r.MaxEntryCol = math.Abs(d), i, int(j)
 			}
 		}
 	}
 	// Relative to ‖W*‖_F; when W* = 0, relative to ‖P‖_F (1 unless P = 0 too).
-	if n := norm.sum(); n > 0 {
-		r.RelativeDifference = math.Sqrt(diff.sum() / n)
-	} else if n := pnorm.sum(); n > 0 {
-		r.RelativeDifference = math.Sqrt(diff.sum() / n)
+	if n := norm.Sum(); n > 0 {
+		r.RelativeDifference = math.Sqrt(diff.Sum() / n)
+	} else if n := pnorm.Sum(); n > 0 {
+		r.RelativeDifference = math.Sqrt(diff.Sum() / n)
 	}
 	r.RestrictionConservation = conservationDefect(w, sd.MS, sd.MT, sd.CovS)
 	r.RestrictionConsistency = consistencyDefect(w, sd.CoveredT)
@@ -177,11 +177,11 @@ func adjointIdentityDefect(w, p *weights.CSR, ms, mt []float64, probes int, seed
 
 // weightedDot returns Σ m_i a_i b_i, compensated.
 func weightedDot(a, b, m []float64) float64 {
-	var k kahan
+	var k weights.Accumulator
 	for i := range a {
-		k.add(m[i] * a[i] * b[i])
+		k.Add(m[i] * a[i] * b[i])
 	}
-	return k.sum()
+	return k.Sum()
 }
 
 // weightedNorm returns sqrt(Σ m_i a_i²).

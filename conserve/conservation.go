@@ -36,7 +36,7 @@ func CheckConservation(w *weights.CSR, ms, mt, covS []float64, fields []NamedVec
 	c := make([]float64, w.Cols)
 	ColumnSumsTo(c, w, ms, mt)
 	r := &ConservationReport{MaxDefectAt: -1, Defects: make([]float64, w.Cols)}
-	var sq kahan
+	var sq weights.Accumulator
 	for s, cs := range c {
 		r.Defects[s] = -1
 		switch {
@@ -50,13 +50,13 @@ func CheckConservation(w *weights.CSR, ms, mt, covS []float64, fields []NamedVec
 		d := math.Abs(cs - 1)
 		r.Defects[s] = d
 		r.Checked++
-		sq.add(d * d)
+		sq.Add(d * d)
 		if d > r.MaxDefect || r.MaxDefectAt < 0 {
 			r.MaxDefect, r.MaxDefectAt, r.ColumnSumAtMax = d, s, cs
 		}
 	}
 	if r.Checked > 0 {
-		r.RMSDefect = math.Sqrt(sq.sum() / float64(r.Checked))
+		r.RMSDefect = math.Sqrt(sq.Sum() / float64(r.Checked))
 	}
 	r.Histogram = newHistogram(r.Defects)
 	y := make([]float64, w.Rows)
@@ -71,20 +71,20 @@ func CheckConservation(w *weights.CSR, ms, mt, covS []float64, fields []NamedVec
 
 // massBudget compares Σ m_s κ_s x_s with Σ m_t y_t.
 func massBudget(name string, x, y, ms, mt, covS []float64) FieldMass {
-	var src, abs, tgt kahan
+	var src, abs, tgt weights.Accumulator
 	for s, v := range x {
 		k := ms[s]
 		if covS != nil {
 			k *= covS[s]
 		}
-		src.add(k * v)
-		abs.add(k * math.Abs(v))
+		src.Add(k * v)
+		abs.Add(k * math.Abs(v))
 	}
 	for t, v := range y {
-		tgt.add(mt[t] * v)
+		tgt.Add(mt[t] * v)
 	}
-	fm := FieldMass{Name: name, SourceIntegral: src.sum(), TargetIntegral: tgt.sum()}
-	if a := abs.sum(); a > 0 {
+	fm := FieldMass{Name: name, SourceIntegral: src.Sum(), TargetIntegral: tgt.Sum()}
+	if a := abs.Sum(); a > 0 {
 		fm.RelativeError = (fm.TargetIntegral - fm.SourceIntegral) / a
 	}
 	return fm
@@ -95,19 +95,3 @@ type NamedVector struct {
 	Name   string
 	Values []float64
 }
-
-// kahan is a Neumaier accumulator (the same as package weights uses): the error of the
-// sum stays about one rounding of the result, independent of the number of terms.
-type kahan struct{ s, c float64 }
-
-func (k *kahan) add(x float64) {
-	t := k.s + x
-	if math.Abs(k.s) >= math.Abs(x) {
-		k.c += (k.s - t) + x
-	} else {
-		k.c += (x - t) + k.s
-	}
-	k.s = t
-}
-
-func (k *kahan) sum() float64 { return k.s + k.c }

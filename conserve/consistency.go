@@ -32,7 +32,7 @@ func CheckConsistency(w *weights.CSR, covered []bool) ConsistencyReport {
 	w.RowSumsTo(sums)
 	r := ConsistencyReport{MaxDefectAt: -1}
 	ds := make([]float64, w.Rows)
-	var sq kahan
+	var sq weights.Accumulator
 	for t, s := range sums {
 		ds[t] = -1
 		if covered != nil && !covered[t] {
@@ -45,13 +45,13 @@ func CheckConsistency(w *weights.CSR, covered []bool) ConsistencyReport {
 		}
 		d := math.Abs(s - 1)
 		ds[t] = d
-		sq.add(d * d)
+		sq.Add(d * d)
 		if d > r.MaxDefect || r.MaxDefectAt < 0 {
 			r.MaxDefect, r.MaxDefectAt, r.RowSumAtMax = d, t, s
 		}
 	}
 	if r.Checked > 0 {
-		r.RMSDefect = math.Sqrt(sq.sum() / float64(r.Checked))
+		r.RMSDefect = math.Sqrt(sq.Sum() / float64(r.Checked))
 	}
 	r.Histogram = newHistogram(ds)
 	r.Defects = ds

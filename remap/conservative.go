@@ -47,8 +47,8 @@ func buildConservative(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) 
 	// Covered areas (unit sphere or plane units) on both sides, compensated.
 	sUnit := 1 / (src.Scale() * src.Scale())
 	tUnit := 1 / (tgt.Scale() * tgt.Scale())
-	covS := make([]kahanAcc, ns)
-	covT := make([]kahanAcc, nt)
+	covS := make([]weights.Accumulator, ns)
+	covT := make([]weights.Accumulator, nt)
 	for s := 0; s < ns; s++ {
 		if !srcOn(s) {
 			continue
@@ -58,18 +58,18 @@ func buildConservative(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) 
 			if !tgtOn(int(t)) {
 				continue
 			}
-			covS[s].add(o.Area[p])
-			covT[t].add(o.Area[p])
+			covS[s].Add(o.Area[p])
+			covT[t].Add(o.Area[p])
 		}
 	}
 	srcCov := make([]float64, ns)
 	tgtCov := make([]float64, nt)
 	for s := range srcCov {
-		srcCov[s] = math.Min(1, covS[s].sum()/(src.CellArea[s]*sUnit))
+		srcCov[s] = math.Min(1, covS[s].Sum()/(src.CellArea[s]*sUnit))
 	}
 	denom := make([]float64, nt) // what each row is divided by, in unit area
 	for t := range tgtCov {
-		c := covT[t].sum()
+		c := covT[t].Sum()
 		tgtCov[t] = math.Min(1, c/(tgt.CellArea[t]*tUnit))
 		if opt.Normalization == ByCovered {
 			denom[t] = c
@@ -174,20 +174,20 @@ func anyPartial(cov []float64) bool {
 // themselves (what makes second-order maps conserve to 1e-15, not 1e-15/h²).
 func pieceMoments(o *Overlaps, s int, tgtOn func(int) bool, d []r3.Vec) []r3.Vec {
 	p0, p1 := o.SrcStart[s], o.SrcStart[s+1]
-	var ax, mx, my, mz kahanAcc
+	var ax, mx, my, mz weights.Accumulator
 	for p := p0; p < p1; p++ {
 		if !tgtOn(int(o.Tgt[p])) {
 			continue
 		}
-		ax.add(o.Area[p])
-		mx.add(o.Moment[p].X)
-		my.add(o.Moment[p].Y)
-		mz.add(o.Moment[p].Z)
+		ax.Add(o.Area[p])
+		mx.Add(o.Moment[p].X)
+		my.Add(o.Moment[p].Y)
+		mz.Add(o.Moment[p].Z)
 	}
-	a := ax.sum()
+	a := ax.Sum()
 	var c r3.Vec
 	if a > 0 {
-		c = r3.Vec{X: mx.sum() / a, Y: my.sum() / a, Z: mz.sum() / a}
+		c = r3.Vec{X: mx.Sum() / a, Y: my.Sum() / a, Z: mz.Sum() / a}
 	}
 	var res r3.Vec
 	for p := p0; p < p1; p++ {

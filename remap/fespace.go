@@ -91,7 +91,7 @@ func FESpaceMeasure(m *grids.Mesh, space grids.HLocation) ([]float64, error) {
 // the integrals of its local functions over the whole cell (unit sphere / plane units).
 func feMeasure(m *grids.Mesh, space grids.HLocation, bs []*feBasis) ([]float64, [][9]float64) {
 	r := newFERule(feGaussPoints)
-	acc := make([]kahanAcc, m.Size(space))
+	acc := make([]weights.Accumulator, m.Size(space))
 	cell := make([][9]float64, len(bs))
 	sc := newFEScratch()
 	var poly []PolyVertex
@@ -100,12 +100,12 @@ func feMeasure(m *grids.Mesh, space grids.HLocation, bs []*feBasis) ([]float64, 
 		poly = cellPolygon(m, c, poly[:0])
 		b.integrate(cell[c][:], poly, &r, sc)
 		for i, d := range b.dofs {
-			acc[d].add(cell[c][i] * s2)
+			acc[d].Add(cell[c][i] * s2)
 		}
 	}
 	mu := make([]float64, len(acc))
 	for i := range acc {
-		mu[i] = acc[i].sum()
+		mu[i] = acc[i].Sum()
 	}
 	return mu, cell
 }
@@ -250,18 +250,18 @@ func BuildFESpace(src *grids.Mesh, space grids.HLocation, tgt *grids.Mesh, opt O
 		}
 		pieces[s] = keep
 	}
-	covS := make([]kahanAcc, ns)
-	covT := make([]kahanAcc, nt)
+	covS := make([]weights.Accumulator, ns)
+	covT := make([]weights.Accumulator, nt)
 	for s, ps := range pieces {
 		for _, p := range ps {
-			covS[s].add(p.area)
-			covT[p.t].add(p.area)
+			covS[s].Add(p.area)
+			covT[p.t].Add(p.area)
 		}
 	}
 	denom := make([]float64, nt)
 	tgtCov := make([]float64, nt)
 	for t := range denom {
-		c := covT[t].sum()
+		c := covT[t].Sum()
 		tgtCov[t] = math.Min(1, math.Max(0, c/(tgt.CellArea[t]*tUnit)))
 		if opt.Normalization == ByCovered {
 			denom[t] = c
@@ -279,19 +279,19 @@ func BuildFESpace(src *grids.Mesh, space grids.HLocation, tgt *grids.Mesh, opt O
 	// weights are rescaled to exact areas).
 	mu, cellInt := feMeasure(src, space, bs)
 	for s, ps := range pieces {
-		a := covS[s].sum()
+		a := covS[s].Sum()
 		if len(ps) == 0 || a < coveredShare*src.CellArea[s]*sUnit {
 			continue
 		}
 		b := bs[s]
 		var delta [9]float64
 		for i := range b.n {
-			var k kahanAcc
-			k.add(cellInt[s][i])
+			var k weights.Accumulator
+			k.Add(cellInt[s][i])
 			for _, p := range ps {
-				k.add(-p.ints[i])
+				k.Add(-p.ints[i])
 			}
-			delta[i] = k.sum()
+			delta[i] = k.Sum()
 		}
 		for j := range ps {
 			f := ps[j].area / a
@@ -340,7 +340,7 @@ func BuildFESpace(src *grids.Mesh, space grids.HLocation, tgt *grids.Mesh, opt O
 	}
 	partial := false
 	for s, b := range bs {
-		c := math.Min(1, covS[s].sum()/(src.CellArea[s]*sUnit))
+		c := math.Min(1, covS[s].Sum()/(src.CellArea[s]*sUnit))
 		if !srcOn(s) {
 			c = 0
 		}

@@ -2,6 +2,7 @@ package remap
 
 import (
 	"fmt"
+	"github.com/colbridge/colbridge/weights"
 	"math"
 	"testing"
 
@@ -38,19 +39,19 @@ func testMeshes(t testing.TB) map[string]*grids.Mesh {
 func coverageDefects(o *Overlaps) (src, tgt float64, worstS, worstT int) {
 	s2 := o.Source.Scale() * o.Source.Scale()
 	t2 := o.Target.Scale() * o.Target.Scale()
-	tsum := make([]kahanAcc, o.Target.NumCells())
+	tsum := make([]weights.Accumulator, o.Target.NumCells())
 	for s := 0; s < o.Source.NumCells(); s++ {
-		var k kahanAcc
+		var k weights.Accumulator
 		for p := o.SrcStart[s]; p < o.SrcStart[s+1]; p++ {
-			k.add(o.Area[p])
-			tsum[o.Tgt[p]].add(o.Area[p])
+			k.Add(o.Area[p])
+			tsum[o.Tgt[p]].Add(o.Area[p])
 		}
-		if d := math.Abs(k.sum()*s2-o.Source.CellArea[s]) / o.Source.CellArea[s]; d > src {
+		if d := math.Abs(k.Sum()*s2-o.Source.CellArea[s]) / o.Source.CellArea[s]; d > src {
 			src, worstS = d, s
 		}
 	}
 	for t := range tsum {
-		if d := math.Abs(tsum[t].sum()*t2-o.Target.CellArea[t]) / o.Target.CellArea[t]; d > tgt {
+		if d := math.Abs(tsum[t].Sum()*t2-o.Target.CellArea[t]) / o.Target.CellArea[t]; d > tgt {
 			tgt, worstT = d, t
 		}
 	}

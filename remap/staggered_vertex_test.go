@@ -1,6 +1,7 @@
 package remap
 
 import (
+	"github.com/colbridge/colbridge/weights"
 	"math"
 	"testing"
 
@@ -39,21 +40,21 @@ func vertexMeshes(t *testing.T) map[string]*grids.Mesh {
 func TestKites(t *testing.T) {
 	for name, m := range vertexMeshes(t) {
 		k := Kites(m)
-		perVert := make([]kahanAcc, m.NumVerts())
+		perVert := make([]weights.Accumulator, m.NumVerts())
 		worst := 0.0
 		for c := 0; c < m.NumCells(); c++ {
-			var s kahanAcc
+			var s weights.Accumulator
 			for h := m.CellStart[c]; h < m.CellStart[c+1]; h++ {
-				s.add(k[h])
-				perVert[m.CellVerts[h]].add(k[h])
+				s.Add(k[h])
+				perVert[m.CellVerts[h]].Add(k[h])
 				if !(k[h] > 0) {
 					t.Errorf("%s: kite %d of cell %d is %g", name, h, c, k[h])
 				}
 			}
-			worst = math.Max(worst, math.Abs(s.sum()-m.CellArea[c])/m.CellArea[c])
+			worst = math.Max(worst, math.Abs(s.Sum()-m.CellArea[c])/m.CellArea[c])
 		}
 		for v := range perVert {
-			worst = math.Max(worst, math.Abs(perVert[v].sum()-m.DualArea[v])/m.DualArea[v])
+			worst = math.Max(worst, math.Abs(perVert[v].Sum()-m.DualArea[v])/m.DualArea[v])
 		}
 		if worst > exactTol {
 			t.Errorf("%s: kites miss the cell or dual areas by %.3g", name, worst)
