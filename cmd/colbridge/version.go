@@ -1,0 +1,5 @@
+package main
+
+import "github.com/colbridge/colbridge/weights"
+
+var version = weights.Version
