@@ -58,6 +58,3 @@ func (t Type) size() int {
 	}
 	return 0
 }
-
-// IsFloat reports whether t is Float32 or Float64.
-func (t Type) IsFloat() bool { return t == Float32 || t == Float64 }
