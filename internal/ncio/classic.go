@@ -44,6 +44,18 @@ type classicHeader struct {
 	size    int64 // file size
 	version byte
 	ndims   int64
+	numrecs int64   // -1 for STREAMING
+	dimLen  []int64 // dimension lengths, 0 for the record dimension
+	recDim  int64   // id of the record dimension, -1 if none
+}
+
+// classicVar is what the extent check needs of a variable.
+type classicVar struct {
+	name   string
+	dims   []int64
+	size   int64 // bytes per value
+	begin  int64
+	record bool
 }
 
 func (h *classicHeader) fail(format string, args ...any) {
@@ -102,20 +114,25 @@ func (h *classicHeader) walk() {
 	h.version = h.read(1, "version")[0]
 	// numrecs: NON_NEG or STREAMING (all bits set).
 	if h.version == 5 {
-		if n := h.int64("numrecs"); n < 0 && n != -1 {
-			h.fail("negative numrecs %d", n)
-		}
-	} else if n := h.int32("numrecs"); n < 0 && n != -1 {
-		h.fail("negative numrecs %d", n)
+		h.numrecs = h.int64("numrecs")
+	} else {
+		h.numrecs = h.int32("numrecs")
+	}
+	if h.numrecs < -1 {
+		h.fail("negative numrecs %d", h.numrecs)
 	}
 	// dim_list: each dim is at least a name (4+4 bytes) and a length.
 	h.ndims = h.list(0x0A, "dimension", 8+h.word())
 	unlimited := 0
-	for range h.ndims {
+	h.recDim = -1
+	for id := range h.ndims {
 		h.name("dimension")
-		if h.nonNeg("dimension length") == 0 {
+		n := h.nonNeg("dimension length")
+		if n == 0 {
 			unlimited++
+			h.recDim = id
 		}
+		h.dimLen = append(h.dimLen, n)
 	}
 	if unlimited > 1 {
 		h.fail("%d record dimensions, the format allows one", unlimited)
@@ -123,20 +140,31 @@ func (h *classicHeader) walk() {
 	h.attrs()
 	// var_list: name, rank, vatt_list, type, vsize, begin.
 	nvars := h.list(0x0B, "variable", 8+h.word()+8+4+h.word()+4)
+	vars := make([]classicVar, 0, nvars)
 	for range nvars {
-		h.name("variable")
+		var v classicVar
+		v.name = h.name("variable")
 		rank := h.nonNeg("variable rank")
 		if rank > 1024 { // NC_MAX_VAR_DIMS
 			h.fail("variable rank %d exceeds 1024", rank)
 		}
 		h.need(rank*h.word(), "dimension ids")
-		for range rank {
-			if id := h.nonNeg("dimension id"); id >= h.ndims {
+		for i := range rank {
+			id := h.nonNeg("dimension id")
+			if id >= h.ndims {
 				h.fail("dimension id %d, file has %d dimensions", id, h.ndims)
 			}
+			if id == h.recDim {
+				if i != 0 {
+					h.fail("variable %q uses the record dimension in position %d, only 0 is allowed", v.name, i)
+				}
+				v.record = true
+				continue
+			}
+			v.dims = append(v.dims, h.dimLen[id])
 		}
 		h.attrs()
-		h.typ()
+		v.size = h.typ()
 		h.nonNeg("vsize")
 		var begin int64
 		if h.version == 1 {
@@ -145,9 +173,62 @@ func (h *classicHeader) walk() {
 			begin = h.int64("begin")
 		}
 		if begin < 0 || begin > h.size {
-			h.fail("variable data begins at %d, beyond the file's %d bytes", begin, h.size)
+			h.fail("variable %q: data begins at %d, beyond the file's %d bytes", v.name, begin, h.size)
+		}
+		v.begin = begin
+		vars = append(vars, v)
+	}
+	h.checkExtents(vars)
+}
+
+// checkExtents checks that the file holds every variable's data, so that a
+// truncated file is refused: the library would read zeros past its end
+// without an error. netCDF-C pads the files it writes to this full size
+// when it closes them, even in no-fill mode.
+func (h *classicHeader) checkExtents(vars []classicVar) {
+	// Bytes of one record of each record variable; recsize is their sum,
+	// each padded to 4 bytes unless there is only one (NUG, "Note on padding").
+	var recsize int64
+	nrec := 0
+	slab := make([]int64, len(vars))
+	for i, v := range vars {
+		n := v.size
+		for _, l := range v.dims {
+			n = h.mul(n, l, v.name)
+		}
+		slab[i] = n
+		if v.record {
+			recsize += pad4(n)
+			nrec++
 		}
 	}
+	if nrec == 1 {
+		for i, v := range vars {
+			if v.record {
+				recsize = slab[i]
+			}
+		}
+	}
+	for i, v := range vars {
+		end := v.begin + slab[i]
+		if v.record {
+			if h.numrecs <= 0 || slab[i] == 0 {
+				continue // no records, or STREAMING (length unknown)
+			}
+			end = v.begin + h.mul(h.numrecs-1, recsize, v.name) + slab[i]
+		}
+		if slab[i] > 0 && (end < v.begin || end > h.size) {
+			h.fail("variable %q: data ends at byte %d, the file has %d (truncated)", v.name, end, h.size)
+		}
+	}
+}
+
+// mul multiplies non-negative sizes, failing on overflow.
+func (h *classicHeader) mul(a, b int64, name string) int64 {
+	if a != 0 && b > math.MaxInt64/a {
+		h.fail("variable %q: size overflows", name)
+	}
+	return a * b
 }
 
 // word is the size of NON_NEG: 4, or 8 in CDF-5.
@@ -175,13 +256,19 @@ func (h *classicHeader) list(tag int64, what string, minEntry int64) int64 {
 	return n
 }
 
-// name reads a name: length, bytes, padding to 4.
-func (h *classicHeader) name(what string) {
+// name reads a name (length, bytes, padding to 4) and returns it.
+func (h *classicHeader) name(what string) string {
 	n := h.nonNeg(what + " name length")
 	if n == 0 || n > 256 { // NC_MAX_NAME
 		h.fail("%s name length %d not in 1..256", what, n)
 	}
-	h.skip(pad4(n), what+" name")
+	h.need(pad4(n), what+" name")
+	b := make([]byte, pad4(n))
+	if _, err := io.ReadFull(h.r, b); err != nil {
+		h.fail("reading %s name: %v", what, err)
+	}
+	h.pos += pad4(n)
+	return string(b[:n])
 }
 
 func (h *classicHeader) attrs() {

@@ -94,7 +94,7 @@ func Open(path string) (*File, error) {
 		}
 		f.ncid = int(ds)
 		if err = f.load(ds, size); err != nil {
-				if !hdf5 {
+			if !hdf5 {
 				ds.Close()
 			}
 			// else leak the handle: nc_close of a NetCDF-4 file whose

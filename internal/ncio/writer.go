@@ -109,7 +109,13 @@ func Create(path string, opts CreateOptions) (*Writer, error) {
 	default:
 		return nil, w.errorf("create", "", "", ErrInvalid, fmt.Sprintf("unknown format %d", opts.Format), nil)
 	}
-	w.tmp = filepath.Join(filepath.Dir(path), fmt.Sprintf(".%s.tmp-%016x", base, rand.Uint64()))
+	dir := filepath.Dir(path)
+	if st, err := os.Stat(dir); err != nil {
+		return nil, w.errorf("create", "", "", nil, "directory "+dir, unwrapPathError(err))
+	} else if !st.IsDir() {
+		return nil, w.errorf("create", "", "", ErrInvalid, dir+" is not a directory", nil)
+	}
+	w.tmp = filepath.Join(dir, fmt.Sprintf(".%s.tmp-%016x", base, rand.Uint64()))
 	w.failAt = int(writeFault.Load())
 	var err error
 	run(func() {
