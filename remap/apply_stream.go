@@ -17,10 +17,6 @@ import (
 // the arithmetic of the current one runs on all cores. Two input and two output slots
 // bound the memory: at most two chunks are read ahead and two wait to be written.
 
-// writebackBytes: after this many bytes written the writer asks the kernel to start
-// writing them to disk, so Commit's fsync does not wait for the whole file at the end.
-const writebackBytes = 64 << 20
-
 // slots is the number of input and of output buffers.
 const slots = 2
 
@@ -200,7 +196,6 @@ func runPipeline(jobs []*job, w *ncio.Writer, in *inputFile, opt ApplyOptions, r
 	}()
 
 	// Writer (this goroutine).
-	var sinceSync int64
 	for t := range toWrite {
 		stopped := false
 		select {
@@ -213,10 +208,6 @@ func runPipeline(jobs []*job, w *ncio.Writer, in *inputFile, opt ApplyOptions, r
 				fail(err)
 			} else {
 				res.BytesWritten += t.values * 8
-				if sinceSync += t.values * 8; sinceSync >= writebackBytes {
-					w.StartWriteback() // best effort: only shortens Commit's fsync
-					sinceSync = 0
-				}
 			}
 		}
 		outFree <- t.out
