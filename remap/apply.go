@@ -186,8 +186,8 @@ func (a *Applier) applyFile(inPath, outPath string, opt ApplyOptions, res *FileR
 	}
 	budget -= a.mapSize + fixedOverhead
 	for _, j := range jobs {
-		if err := j.size(budget); err != nil {
-			return err
+		if err := j.size(budget, a.mapSize); err != nil {
+			return fmt.Errorf("%s: %w", inPath, err)
 		}
 	}
 	w, err := ncio.Create(outPath, ncio.CreateOptions{Format: ncio.NetCDF4})
@@ -212,10 +212,12 @@ func (a *Applier) applyFile(inPath, outPath string, opt ApplyOptions, res *FileR
 	return w.Commit()
 }
 
-// fixedOverhead is the memory kept aside from the budget for what is not a field buffer:
-// the target mesh being copied, NetCDF's chunk caches and the Go runtime (measured peak
-// resident set of a run with the smallest buffers on the demo: about 40 MiB).
-const fixedOverhead = 48 << 20
+// fixedOverhead is the memory kept aside from the budget for what is not a field buffer
+// or a map: the program, the Go runtime, and the NetCDF and HDF5 libraries with their
+// chunk caches (16 MiB per variable by default: one variable being read, one being
+// written). Measured: peak resident set minus buffers and maps was 76–86 MiB on the
+// 1 GB benchmark input with budgets of 96 to 256 MiB.
+const fixedOverhead = 96 << 20
 
 // plan decides the direction and the jobs (output variables) for a file.
 func (a *Applier) plan(in *inputFile, opt ApplyOptions) (string, []*job, error) {
@@ -644,12 +646,12 @@ func (j *job) columnBytes() int64 {
 const maxChunkBytes = 32 << 20
 
 // size chooses the records per chunk within the budget.
-func (j *job) size(budget int64) error {
+func (j *job) size(budget, mapSize int64) error {
 	per := j.recordBytes()
 	need := per + j.columnBytes()
 	if need > budget {
-		return fmt.Errorf("variable %q: one record (%d levels × %d %ss) needs %.0f MiB of buffers, more than the memory budget leaves (%.0f MiB after %.0f MiB of maps); raise --memory",
-			j.out, j.ls, j.ns, hName(j.op.src.H), float64(need)/(1<<20), float64(max(budget, 0))/(1<<20), float64(fixedOverhead)/(1<<20))
+		return fmt.Errorf("variable %q: one record (%d levels × %d %ss) needs %.0f MiB of buffers, more than the memory budget leaves for them (%.0f MiB, after %.0f MiB for the maps and %.0f MiB for the program and the NetCDF library); raise --memory",
+			j.out, j.ls, j.ns, hName(j.op.src.H), float64(need)/(1<<20), float64(max(budget, 0))/(1<<20), float64(mapSize)/(1<<20), float64(fixedOverhead)/(1<<20))
 	}
 	r := int((budget - j.columnBytes()) / per)
 	inBytes := int64(len(j.inputs)) * int64(j.ls) * int64(j.ns) * 8

@@ -66,7 +66,7 @@ func FuzzReadFields(f *testing.F) {
 			f.f.Close()
 		}
 		outDir := filepath.Join(d, "out")
-		rs := a.ApplyFiles([]string{in}, outDir, ApplyOptions{Memory: 64 << 20}, 1, false, nil)
+		rs := a.ApplyFiles([]string{in}, outDir, ApplyOptions{Memory: 256 << 20}, 1, false, nil)
 		if err := rs[0].Err; err != nil {
 			if !strings.Contains(err.Error(), in) {
 				t.Fatalf("error does not name the input: %v", err)

@@ -283,8 +283,8 @@ func (o *output) defineTopology(need map[string]int) (map[string]hdim, error) {
 	// No mesh file: a topology variable that identifies the mesh without its geometry.
 	h0 := o.jobs[0].h[0]
 	o.topo = "mesh"
-	for o.in.vars[o.topo].Name != "" {
-		o.topo += "_target"
+	for o.in.vars[o.topo].Name != "" && !o.in.meshVars[o.topo] {
+		o.topo += "_target" // an input variable of that name is copied
 	}
 	if err := o.w.DefVar(o.topo, ncio.Int32, nil); err != nil {
 		return nil, err

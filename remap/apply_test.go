@@ -579,3 +579,104 @@ func TestApplyStreamingIsExact(t *testing.T) {
 		t.Errorf("small budget: %d chunks for %d variables of 2 records; the budget should cut some", res.Chunks, len(res.Vars))
 	}
 }
+
+// TestApplyPackedAndTypes: packed short values (CF §8.1: unpacked = packed·scale_factor +
+// add_offset, the _FillValue compared before unpacking) are unpacked; a float32 output is
+// asked for by Type; and bounds change nothing under a first-order map, whose weights are
+// non-negative with rows summing to one (convex combinations stay in their bounds).
+func TestApplyPackedAndTypes(t *testing.T) {
+	src, _, mapPath, _, _ := tc2Setup(t, 1)
+	m, err := weights.ReadMap(mapPath)
+	check(t, err)
+	n := src.NumCells()
+	raw := make([]float64, n)
+	x := make([]float64, n)
+	for i := range raw {
+		raw[i] = float64(i%200 - 100)
+		x[i] = raw[i]*0.25 + 10
+	}
+	raw[7] = -32767 // the _FillValue
+	dir := t.TempDir()
+	in := filepath.Join(dir, "in.nc")
+	writeTestFile(t, in, ncio.NetCDF4, []tdim{{"ncells", n, false}},
+		[]tvar{{name: "p", dims: []string{"ncells"}, data: raw, t: ncio.Int16,
+			nums: map[string][]float64{"scale_factor": {0.25}, "add_offset": {10}, "_FillValue": {-32767}},
+			text: [][2]string{{"units", "K"}}}})
+	a, err := NewMapApplier(mapPath)
+	check(t, err)
+	out := filepath.Join(dir, "o", "in.nc")
+	check(t, os.MkdirAll(filepath.Dir(out), 0o755))
+	res, err := a.ApplyFile(in, out, ApplyOptions{Type: TypeFloat32, Bounds: true})
+	check(t, err)
+	got, v := readVar(t, out, "p")
+	if v.Type != ncio.Float32 {
+		t.Errorf("output type %v, want float", v.Type)
+	}
+	want := make([]float64, m.W.Rows)
+	m.W.ApplyTo(want, x)
+	for i := range want {
+		uses := false
+		for k := m.W.RowStart[i]; k < m.W.RowStart[i+1]; k++ {
+			uses = uses || m.W.ColIndex[k] == 7
+		}
+		if uses {
+			if float32(got[i]) != float32(defaultFillFloat) {
+				t.Errorf("target %d uses the missing source but holds %v", i, got[i])
+			}
+			continue
+		}
+		if float32(got[i]) != float32(want[i]) {
+			t.Fatalf("target %d = %v, want %v (float32 of the unpacked map)", i, got[i], float32(want[i]))
+		}
+	}
+	if r := res.Vars[0]; r.Clipped != 0 || r.MissingSources != 1 {
+		t.Errorf("clipped %d (want 0 under a first-order map), missing sources %d (want 1)", r.Clipped, r.MissingSources)
+	}
+	for _, gone := range []string{"scale_factor", "add_offset"} {
+		if f, err := ncio.Open(out); err == nil {
+			if _, err := f.AttrFloat64s("p", gone); err == nil {
+				t.Errorf("the output keeps %s", gone)
+			}
+			f.Close()
+		}
+	}
+}
+
+// TestApplyTargetMesh: with the target's mesh file the output carries its UGRID topology
+// (UGRID 1.0: the topology variable and its face–node connectivity, face coordinates
+// named by the field's coordinates attribute); a mesh file of another mesh is refused,
+// naming both fingerprints; without one, a topology variable names the mesh.
+func TestApplyTargetMesh(t *testing.T) {
+	_, tgt, mapPath, in, _ := tc2Setup(t, 1)
+	dir := t.TempDir()
+	ll := filepath.Join(dir, "ll.nc")
+	check(t, grids.WriteUGRID(ll, tgt))
+	a, err := NewMapApplier(mapPath)
+	check(t, err)
+	out := filepath.Join(dir, "o", "tc2.nc")
+	check(t, os.MkdirAll(filepath.Dir(out), 0o755))
+	_, err = a.ApplyFile(in, out, ApplyOptions{TargetMesh: ll})
+	check(t, err)
+	back, err := grids.ReadMesh(out)
+	check(t, err)
+	if back.Fingerprint() != tgt.Fingerprint() {
+		t.Errorf("the output's mesh reads back as %s, want %s", back.Fingerprint(), tgt.Fingerprint())
+	}
+	if c := readAttr(t, out, "h", "coordinates"); c != "mesh_face_x mesh_face_y" {
+		t.Errorf("coordinates = %q", c)
+	}
+	other, err := grids.NewLatLon(grids.LatLonSpec{NLon: 36, NLat: 18, Lon0: 5})
+	check(t, err)
+	wrong := filepath.Join(dir, "other.nc")
+	check(t, grids.WriteUGRID(wrong, other))
+	_, err = a.ApplyFile(in, filepath.Join(dir, "o", "x.nc"), ApplyOptions{TargetMesh: wrong})
+	if err == nil || !strings.Contains(err.Error(), other.Fingerprint()) || !strings.Contains(err.Error(), tgt.Fingerprint()) {
+		t.Errorf("a mesh file of another mesh: %v", err)
+	}
+	stub := filepath.Join(dir, "o", "stub.nc")
+	_, err = a.ApplyFile(in, stub, ApplyOptions{})
+	check(t, err)
+	if fp := readAttr(t, stub, "mesh", "colbridge_fingerprint"); fp != tgt.Fingerprint() {
+		t.Errorf("stub topology fingerprint %q", fp)
+	}
+}

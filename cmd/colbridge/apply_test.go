@@ -280,11 +280,18 @@ func TestApplyKilled(t *testing.T) {
 	if _, err := os.Stat(final); !os.IsNotExist(err) {
 		t.Fatalf("after SIGKILL, %s exists (%v): a partial output under the final name", final, err)
 	}
-	// A re-run completes; the dead run's hidden temporary file does not disturb it.
-	if b, err := exec.Command(bin, "apply", "-q", "--map", m, "--out-dir", out, in).CombinedOutput(); err != nil {
+	// A re-run completes; the dead run's hidden temporary file does not disturb it. With
+	// --memory 128MiB its peak resident set (getrusage) stays under 128 MiB.
+	rerun := exec.Command(bin, "apply", "-q", "--map", m, "--out-dir", out, "--memory", "128MiB", in)
+	if b, err := rerun.CombinedOutput(); err != nil {
 		t.Fatalf("re-run: %v\n%s", err, b)
 	}
 	if _, err := os.Stat(final); err != nil {
 		t.Fatal(err)
+	}
+	if ru, ok := rerun.ProcessState.SysUsage().(*syscall.Rusage); ok {
+		if rss := ru.Maxrss / 1024; rss > 128 {
+			t.Errorf("peak resident set %d MiB with --memory 128MiB", rss)
+		}
 	}
 }
