@@ -85,10 +85,13 @@
 // map or the mesh file — by path, symbolic link or hard link — is refused; so is a map
 // whose source mesh (fingerprint, else sizes) differs from the file's, naming both.
 //
-// Speed (benchmarks, 2 cores): the arithmetic of a cubed-sphere N=96 → 1° map runs at
-// about 7 GB/s of fields in and out for order 1 and 3.7 GB/s for order 2
-// (BenchmarkApplyKernel), bound by scattered loads, not by memory bandwidth; end to end,
-// a 1.06 GB file takes about 2.7–3.1 s where nccopy takes 1.0–1.4 s, of which about 1 s is
-// the fsync that makes the output durable before its rename (BenchmarkApplyEndToEnd in
-// cmd/colbridge).
+// Speed (benchmarks on the project's 2-core machine, medians, load average 1.2–1.5):
+// the arithmetic of a cubed-sphere N=96 → 1° map moves about 6 GB/s of fields in and out
+// for order 1 and 3.2 GB/s for order 2 (BenchmarkApplyKernel), where a memory copy moves
+// 30 GB/s on one core and 54 GB/s on two: it is bound by the scattered loads of sparse
+// rows in scalar code, not by memory bandwidth. End to end, a 1.06 GB file takes 3.4 s
+// (order 1) and 4.2 s (order 2) where nccopy takes 1.2 s, or 1.9 s with an fsync of its
+// output (BenchmarkApplyEndToEnd in cmd/colbridge): the single-threaded NetCDF library
+// reads and writes at nccopy's pace on one core (the output is 17% larger), Commit's
+// fsync adds about 0.8 s, and the arithmetic shares the two cores with it.
 package remap
