@@ -7,10 +7,6 @@ import (
 	"github.com/colbridge/colbridge/weights"
 )
 
-func buildHighOrder(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) {
-	return nil, fmt.Errorf("%w: conservative order %d is not available yet", ErrBadOptions, opt.Order)
-}
-
 func buildInterpolate(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) {
 	return nil, fmt.Errorf("%w: interpolation is not available yet", ErrBadOptions)
 }
