@@ -1,7 +1,6 @@
 package remap
 
 import (
-	"math"
 
 	"gonum.org/v1/gonum/spatial/r3"
 
@@ -44,39 +43,7 @@ func buildConservative(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) 
 	srcOn := func(s int) bool { return opt.SourceMask == nil || opt.SourceMask[s] }
 	tgtOn := func(t int) bool { return opt.TargetMask == nil || opt.TargetMask[t] }
 
-	// Covered areas (unit sphere or plane units) on both sides, compensated.
-	sUnit := 1 / (src.Scale() * src.Scale())
-	tUnit := 1 / (tgt.Scale() * tgt.Scale())
-	covS := make([]weights.Accumulator, ns)
-	covT := make([]weights.Accumulator, nt)
-	for s := 0; s < ns; s++ {
-		if !srcOn(s) {
-			continue
-		}
-		for p := o.SrcStart[s]; p < o.SrcStart[s+1]; p++ {
-			t := o.Tgt[p]
-			if !tgtOn(int(t)) {
-				continue
-			}
-			covS[s].Add(o.Area[p])
-			covT[t].Add(o.Area[p])
-		}
-	}
-	srcCov := make([]float64, ns)
-	tgtCov := make([]float64, nt)
-	for s := range srcCov {
-		srcCov[s] = math.Min(1, covS[s].Sum()/(src.CellArea[s]*sUnit))
-	}
-	denom := make([]float64, nt) // what each row is divided by, in unit area
-	for t := range tgtCov {
-		c := covT[t].Sum()
-		tgtCov[t] = math.Min(1, c/(tgt.CellArea[t]*tUnit))
-		if opt.Normalization == ByCovered {
-			denom[t] = c
-		} else {
-			denom[t] = tgt.CellArea[t] * tUnit
-		}
-	}
+	srcCov, tgtCov, denom := coverages(o, opt, srcOn, tgtOn)
 
 	var grad *gradients
 	if opt.Order == 2 {

@@ -88,7 +88,7 @@ func buildHighOrder(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) {
 	par.For(ns, opt.Workers, 256, func(lo, hi int) {
 		ft := rec.newFitter()
 		var d, mom []float64
-		var acc []kahanAcc
+		var acc []weights.Accumulator
 		for s := lo; s < hi; s++ {
 			if !srcOn(s) {
 				continue
@@ -230,8 +230,8 @@ func coverages(o *Overlaps, opt Options, srcOn, tgtOn func(int) bool) (srcCov, t
 	ns, nt := src.NumCells(), tgt.NumCells()
 	sUnit := 1 / (src.Scale() * src.Scale())
 	tUnit := 1 / (tgt.Scale() * tgt.Scale())
-	covS := make([]kahanAcc, ns)
-	covT := make([]kahanAcc, nt)
+	covS := make([]weights.Accumulator, ns)
+	covT := make([]weights.Accumulator, nt)
 	for s := 0; s < ns; s++ {
 		if !srcOn(s) {
 			continue
@@ -241,18 +241,18 @@ func coverages(o *Overlaps, opt Options, srcOn, tgtOn func(int) bool) (srcCov, t
 			if !tgtOn(int(t)) {
 				continue
 			}
-			covS[s].add(o.Area[q])
-			covT[t].add(o.Area[q])
+			covS[s].Add(o.Area[q])
+			covT[t].Add(o.Area[q])
 		}
 	}
 	srcCov = make([]float64, ns)
 	tgtCov = make([]float64, nt)
 	denom = make([]float64, nt)
 	for s := range srcCov {
-		srcCov[s] = math.Min(1, covS[s].sum()/(src.CellArea[s]*sUnit))
+		srcCov[s] = math.Min(1, covS[s].Sum()/(src.CellArea[s]*sUnit))
 	}
 	for t := range tgtCov {
-		c := covT[t].sum()
+		c := covT[t].Sum()
 		tgtCov[t] = math.Min(1, c/(tgt.CellArea[t]*tUnit))
 		if opt.Normalization == ByCovered {
 			denom[t] = c
@@ -268,37 +268,37 @@ func coverages(o *Overlaps, opt Options, srcOn, tgtOn func(int) bool) (srcCov, t
 // with the rounding residue Σ_P d_α,P removed in proportion to area so that the centred
 // moments sum to zero to the rounding of the d themselves (what makes the map conserve
 // to 1e-15 rather than to the quadrature error).
-func centredMoments(o *Overlaps, s int, tgtOn func(int) bool, mom []float64, nu int, d []float64, acc *[]kahanAcc) []float64 {
+func centredMoments(o *Overlaps, s int, tgtOn func(int) bool, mom []float64, nu int, d []float64, acc *[]weights.Accumulator) []float64 {
 	p0, p1 := o.SrcStart[s], o.SrcStart[s+1]
 	np := int(p1 - p0)
-	*acc = append((*acc)[:0], make([]kahanAcc, nu+1)...)
+	*acc = append((*acc)[:0], make([]weights.Accumulator, nu+1)...)
 	sums := *acc
 	for j := 0; j < np; j++ {
 		if !tgtOn(int(o.Tgt[p0+int64(j)])) {
 			continue
 		}
-		sums[nu].add(o.Area[p0+int64(j)])
+		sums[nu].Add(o.Area[p0+int64(j)])
 		for a := 0; a < nu; a++ {
-			sums[a].add(mom[j*nu+a])
+			sums[a].Add(mom[j*nu+a])
 		}
 	}
-	area := sums[nu].sum()
+	area := sums[nu].Sum()
 	d = append(d[:0], make([]float64, np*nu)...)
 	if !(area > 0) {
 		return d
 	}
 	for a := 0; a < nu; a++ {
-		mean := sums[a].sum() / area
-		var res kahanAcc
+		mean := sums[a].Sum() / area
+		var res weights.Accumulator
 		for j := 0; j < np; j++ {
 			if !tgtOn(int(o.Tgt[p0+int64(j)])) {
 				continue
 			}
 			v := mom[j*nu+a] - o.Area[p0+int64(j)]*mean
 			d[j*nu+a] = v
-			res.add(v)
+			res.Add(v)
 		}
-		r := res.sum()
+		r := res.Sum()
 		for j := 0; j < np; j++ {
 			if tgtOn(int(o.Tgt[p0+int64(j)])) {
 				d[j*nu+a] -= o.Area[p0+int64(j)] / area * r

@@ -251,8 +251,8 @@ func lsqOperator(sc *lsqScratch, rows, w []float64, nk, nu int) ([]float64, floa
 		sc = new(lsqScratch)
 	}
 	// Column-major copy of WA, columns scaled to unit length.
-	a := grow(&sc.a, nk*nu)
-	colScale := grow(&sc.colScale, nu)
+	a := growZeroed(&sc.a, nk*nu)
+	colScale := growZeroed(&sc.colScale, nu)
 	for j := 0; j < nu; j++ {
 		col := a[j*nk : (j+1)*nk]
 		n := 0.0
@@ -267,7 +267,7 @@ func lsqOperator(sc *lsqScratch, rows, w []float64, nk, nu int) ([]float64, floa
 			col[i] *= colScale[j]
 		}
 	}
-	c := grow(&sc.c, nu*nk)
+	c := growZeroed(&sc.c, nu*nk)
 	if nk >= nu {
 		if q := qrPinv(sc, a, nk, nu, w, c); q > svdCut {
 			for j := 0; j < nu; j++ {
@@ -287,7 +287,7 @@ func lsqOperator(sc *lsqScratch, rows, w []float64, nk, nu int) ([]float64, floa
 type lsqScratch struct{ a, colScale, c, beta, rdiag, q []float64 }
 
 // grow returns (*buf)[:n], zeroed, reallocating when too short.
-func grow(buf *[]float64, n int) []float64 {
+func growZeroed(buf *[]float64, n int) []float64 {
 	if cap(*buf) < n {
 		*buf = make([]float64, n)
 	}
@@ -300,8 +300,8 @@ func grow(buf *[]float64, n int) []float64 {
 // (overwritten) and returns min|R_jj|/max|R_jj|, a cheap estimate of the inverse
 // condition number (0 when R is singular to within svdCut, and c is then unset).
 func qrPinv(sc *lsqScratch, a []float64, nk, nu int, w, c []float64) float64 {
-	beta := grow(&sc.beta, nu)
-	rdiag := grow(&sc.rdiag, nu)
+	beta := growZeroed(&sc.beta, nu)
+	rdiag := growZeroed(&sc.rdiag, nu)
 	for j := 0; j < nu; j++ {
 		col := a[j*nk : (j+1)*nk]
 		// Householder vector v = x − αe_j over rows j..nk−1, stored in place.
@@ -343,7 +343,7 @@ func qrPinv(sc *lsqScratch, a []float64, nk, nu int, w, c []float64) float64 {
 	}
 	// Q₁ = H_0 ⋯ H_{nu−1} [I; 0], column j from e_j (H_k with k > j leave it alone),
 	// then column i of C is R⁻¹ times row i of Q₁, times w_i.
-	q := grow(&sc.q, nk*nu)
+	q := growZeroed(&sc.q, nk*nu)
 	for j := 0; j < nu; j++ {
 		y := q[j*nk : (j+1)*nk]
 		y[j] = 1

@@ -1,10 +1,8 @@
 package remap
 
 import (
-	"fmt"
 	"math"
 	"math/rand/v2"
-	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/integrate/quad"
@@ -13,28 +11,6 @@ import (
 	"github.com/colbridge/colbridge/grids"
 )
 
-// jitteredPlane returns a non-periodic planar mesh on [0, 1]² of nx × ny quadrilaterals
-// (or twice as many triangles) whose interior vertices are moved at random by up to a
-// quarter of the spacing in each direction (fixed seed), so cells are irregular.
-func jitteredPlane(t testing.TB, nx, ny int, tri bool, seed uint64) *grids.Mesh {
-	t.Helper()
-	reg, err := grids.NewPlane(grids.PlaneSpec{NX: nx, NY: ny, Lx: 1, Ly: 1, Triangles: tri})
-	mustMesh(t, reg, err)
-	rng := rand.New(rand.NewPCG(seed, 7))
-	verts := slices.Clone(reg.Verts)
-	hx, hy := 1/float64(nx), 1/float64(ny)
-	for i, v := range verts {
-		if v.X == 0 || v.X == 1 || v.Y == 0 || v.Y == 1 {
-			continue
-		}
-		verts[i] = r3.Vec{X: v.X + hx*(rng.Float64()-0.5)/2, Y: v.Y + hy*(rng.Float64()-0.5)/2}
-	}
-	m, err := grids.Build(grids.MeshSpec{
-		Name: fmt.Sprintf("jittered %s", reg.Name), Surface: grids.Plane, Lx: 1, Ly: 1,
-		Verts: verts, CellStart: reg.CellStart, CellVerts: reg.CellVerts,
-	})
-	return mustMesh(t, m, err)
-}
 
 // planeMeans returns the exact cell means of f over the cells of a planar mesh by Green's
 // theorem, ∬ f dA = ∮ F dy with ∂F/∂x = f (F given), integrating F along each straight
@@ -126,8 +102,8 @@ func TestReconstructionPolynomials(t *testing.T) {
 	const polyTol = 1e-12
 	rng := rand.New(rand.NewPCG(1, 2))
 	meshes := []*grids.Mesh{
-		jitteredPlane(t, 10, 8, false, 3),
-		jitteredPlane(t, 7, 9, true, 4),
+		jitteredPlane(t, 10, 8, 1, 0.25, false, 3),
+		jitteredPlane(t, 7, 9, 1, 0.25, true, 4),
 	}
 	for _, m := range meshes {
 		for _, p := range []int{1, 2, 3} {
@@ -164,8 +140,8 @@ func TestHighOrderPlanePolynomials(t *testing.T) {
 	// polynomial of degree = order misses by ~1e-3).
 	const planeTol = 1e-12
 	rng := rand.New(rand.NewPCG(5, 6))
-	src := jitteredPlane(t, 12, 10, false, 8)
-	tgt := jitteredPlane(t, 9, 13, true, 9)
+	src := jitteredPlane(t, 12, 10, 1, 0.25, false, 8)
+	tgt := jitteredPlane(t, 9, 13, 1, 0.25, true, 9)
 	for _, order := range []int{3, 4} {
 		w, err := Build(src, tgt, Options{Method: Conservative, Order: order})
 		if err != nil {
