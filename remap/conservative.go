@@ -1,7 +1,6 @@
 package remap
 
 import (
-
 	"gonum.org/v1/gonum/spatial/r3"
 
 	"github.com/colbridge/colbridge/grids"

@@ -11,7 +11,6 @@ import (
 	"github.com/colbridge/colbridge/grids"
 )
 
-
 // planeMeans returns the exact cell means of f over the cells of a planar mesh by Green's
 // theorem, ∬ f dA = ∮ F dy with ∂F/∂x = f (F given), integrating F along each straight
 // edge with n-point Gauss–Legendre from gonum (integrate/quad), which is exact when F is a
