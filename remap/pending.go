@@ -10,11 +10,3 @@ import (
 func buildHighOrder(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) {
 	return nil, fmt.Errorf("%w: conservative order %d is not available yet", ErrBadOptions, opt.Order)
 }
-
-func buildInterpolate(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) {
-	return nil, fmt.Errorf("%w: interpolation is not available yet", ErrBadOptions)
-}
-
-func buildNearest(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) {
-	return nil, fmt.Errorf("%w: nearest is not available yet", ErrBadOptions)
-}
