@@ -46,6 +46,10 @@ type centroidDual struct {
 // separates real rectangles from other quadrilaterals.
 const lonLatShare = 1e-9
 
+// poleShare: a vertex this close to the z axis (in unit-sphere length) is a pole, so a
+// grid read from a file whose pole is (1e-17, 0, 1) still gets the polar scheme.
+const poleShare = 1e-12
+
 func newCentroidDual(m *grids.Mesh) *centroidDual {
 	d := &centroidDual{m: m, sphere: m.Surface == grids.Sphere}
 	nv, nc := m.NumVerts(), m.NumCells()
@@ -86,7 +90,7 @@ func newCentroidDual(m *grids.Mesh) *centroidDual {
 		}
 		p := m.Verts[v]
 		switch {
-		case p.X == 0 && p.Y == 0:
+		case math.Hypot(p.X, p.Y) <= poleShare:
 			if d.isPolarRing(cells) {
 				d.kind[v] = dualPolar
 			}
@@ -112,7 +116,7 @@ func latLonCell(m *grids.Mesh, c int) bool {
 		}
 		a, b := m.Verts[vs[k]], m.Verts[vs[(k+1)%len(vs)]]
 		ha, hb := math.Hypot(a.X, a.Y), math.Hypot(b.X, b.Y)
-		if ha == 0 || hb == 0 {
+		if ha <= poleShare || hb <= poleShare {
 			continue // an arc from a pole is a meridian
 		}
 		// Same longitude: the horizontal parts are parallel and point the same way.
@@ -252,7 +256,7 @@ func (d *centroidDual) bilinearST(p r3.Vec, sw, se, nw int32) (s, t, out float64
 // mean, single-valued; weights are non-negative and sum to 1.
 func (d *centroidDual) polarWeights(p r3.Vec, v int, cells []int32, cols []int32, w []float64) ([]int32, []float64, float64) {
 	g := d.m.CellCentroid
-	up := d.m.Verts[v].Z // +1 north, −1 south
+	up := math.Copysign(1, d.m.Verts[v].Z) // +1 north, −1 south
 	n := len(cells)
 	// Counter-clockwise about the outward pole direction: longitude increases at the
 	// north pole and decreases at the south pole.

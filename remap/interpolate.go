@@ -15,6 +15,15 @@ import (
 // rounding-level cracks between polygons, never a real gap of a regional mesh.
 const dualSlack = 1e-9
 
+// gapSlack: inside a cell whose vertices all have dual polygons, a point that no polygon
+// contains lies in a gap between polygons of different kinds (a lon–lat rectangle, whose
+// sides are parallels, next to a great-arc polygon, in a mesh that mixes lat–lon cells
+// with others); it takes the nearest polygon if it is within this share of that polygon's
+// size. The great arc through two points of a parallel Δλ apart strays from it by at
+// most sinφ·cosφ·Δλ²/8 ≤ Δλ²/16 radians of latitude (from tanφ = tanφ_max·cos λ), a
+// share Δλ/16 of a square cell: well below this for any usable grid.
+const gapSlack = 0.25
+
 // buildInterpolate builds the first-order interpolation map: the value at each target
 // column point (the target cell centroid) is interpolated from the source cell means,
 // which are taken as values at the source centroids.
@@ -40,7 +49,9 @@ const dualSlack = 1e-9
 // distorts by O(h²)).
 //
 // Targets outside every dual polygon (beyond the outer ring of centroids of a regional
-// source) are uncovered: empty rows, coverage 0. Masks and normalisation: buildPointMap.
+// source) are uncovered: empty rows, coverage 0. A point inside a cell whose vertices all
+// have dual polygons is not dropped for a narrow gap between polygons of different kinds
+// (see gapSlack). Masks and normalisation: buildPointMap.
 func buildInterpolate(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) {
 	if src.Surface != tgt.Surface {
 		return buildPointMap(src, tgt, opt, Interpolate, 1, nil)
@@ -95,8 +106,9 @@ func (it *interpolator) stencil(p r3.Vec, cols []int32, w []float64) ([]int32, [
 		return cols, w, false
 	}
 	c := int(start)
+	located := false
 	if found, ok := it.geom.locate(p, c); ok {
-		c = found
+		c, located = found, true
 	}
 	f := it.dual.frame(p)
 	it.tried = it.tried[:0]
@@ -139,8 +151,20 @@ func (it *interpolator) stencil(p r3.Vec, cols []int32, w []float64) ([]int32, [
 			}
 		}
 	}
-	if bestOut <= dualSlack {
+	if bestOut <= dualSlack || (bestOut <= gapSlack && located && it.interiorCell(c)) {
 		return append(cols, it.best.cols...), append(w, it.best.w...), true
 	}
 	return cols, w, false
+}
+
+// interiorCell reports whether every vertex of cell c has a dual polygon: then the point
+// lies among those polygons (up to gaps, see gapSlack), not beyond the outer ring of
+// centroids of a regional mesh.
+func (it *interpolator) interiorCell(c int) bool {
+	for _, v := range it.dual.m.CellVertices(c) {
+		if it.dual.kind[v] == dualNone {
+			return false
+		}
+	}
+	return true
 }
