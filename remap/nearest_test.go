@@ -3,6 +3,7 @@ package remap
 import (
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -190,5 +191,30 @@ func TestNearestMap(t *testing.T) {
 				t.Errorf("%d of %d targets were ties; the test meant all", ties, tc.tgt.NumCells())
 			}
 		})
+	}
+}
+
+// TestPointMapsWorkers: interpolation and nearest maps are bit-identical for any number of
+// workers (Options.Workers documents it; every row depends on its target point only).
+func TestPointMapsWorkers(t *testing.T) {
+	src, err := grids.NewLatLon(grids.LatLonSpec{NLon: 36, NLat: 18, Lon0: -180})
+	mustMesh(t, src, err)
+	tgt, err := grids.NewCubedSphere(12, 0)
+	mustMesh(t, tgt, err)
+	for _, method := range []string{Interpolate, Nearest} {
+		order := map[string]int{Interpolate: 1, Nearest: 0}[method]
+		ref, err := Build(src, tgt, Options{Method: method, Order: order, Workers: 1})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, w := range []int{2, 3, 7} {
+			m, err := Build(src, tgt, Options{Method: method, Order: order, Workers: w})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !slices.Equal(m.W.RowStart, ref.W.RowStart) || !slices.Equal(m.W.ColIndex, ref.W.ColIndex) || !slices.Equal(m.W.Values, ref.W.Values) {
+				t.Errorf("%s with %d workers differs from 1 worker", method, w)
+			}
+		}
 	}
 }
