@@ -187,6 +187,11 @@ func readUGRID(f *ncio.File, path, topo string) (*Mesh, error) {
 		return nil, err
 	}
 	spec.CellStart = make([]int32, len(faces)+1)
+	nfv := 0
+	for _, fc := range faces {
+		nfv += len(fc)
+	}
+	spec.CellVerts = make([]int32, 0, nfv)
 	for c, fc := range faces {
 		if len(fc) < 3 {
 			return nil, fileErr(path, fnName, nil, "face %d has %d nodes; a face needs at least 3", c, len(fc))
