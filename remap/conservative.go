@@ -51,10 +51,11 @@ func buildConservative(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) 
 		grad = newGradients(src, srcOn, opt.Workers)
 	}
 
-	// The centred piece moments d, per source, in parallel (order 2).
+	// The centred piece moments d, per source, in parallel (order 2), written over the
+	// pieces' moments (which are not needed afterwards).
 	var d []r3.Vec
 	if grad != nil {
-		d = make([]r3.Vec, o.Len())
+		d = o.Moment
 		par.For(ns, opt.Workers, 1024, func(lo, hi int) {
 			var buf []r3.Vec
 			for s := lo; s < hi; s++ {
@@ -64,6 +65,7 @@ func buildConservative(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) 
 				}
 			}
 		})
+		o.Moment = nil
 	}
 	active := func(t int32) bool { return tgtOn(int(t)) && denom[t] != 0 }
 	w := assembleRows(o, opt.Workers, func(p int64, s int, t int32, emit func(col int32, v float64)) {
