@@ -82,6 +82,11 @@ func (s Scenario) Run(dir string, w io.Writer) error {
 	if err := os.WriteFile(filepath.Join(dir, PlanFile), Plan, 0o644); err != nil {
 		return err
 	}
+	fields, err := s.WriteFields(dir, dyn, lev)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "fields: %s (air_density, layer_mass, theta, tracer, u, surface_pressure at 2 times; invented from the 1976 standard atmosphere and Williamson test case 2)\n", fields)
 	dz := lev.Thicknesses()
 	fmt.Fprintf(w, "levels: %d layers from 0 to %.0f km, %.0f m thick at the ground, %.0f m at the top; dynamics temperature %s, physics %s\n",
 		lev.NLev(), s.Top/1e3, dz[0], dz[len(dz)-1], s.DynamicsStagg, s.ColumnsStagg)
