@@ -3,6 +3,7 @@ package conserve
 import (
 	"bytes"
 	"fmt"
+	"github.com/colbridge/colbridge/grids"
 	"image/color"
 	"math"
 
@@ -390,9 +391,37 @@ func mapPlot(title, label string, pts *meshPoints, vals []float64) ([]byte, erro
 	if amp == 0 {
 		amp = 1
 	}
+	return mapPlotRange(title, label, pts, vals, -amp, amp)
+}
+
+// FieldMapPNG draws a cell field on its mesh (longitude–latitude on the sphere, x–y on the
+// plane), each cell filled with its value's colour, and returns the PNG. With diverging
+// the colour scale is centred on zero (for increments and errors); otherwise it runs from
+// the field's minimum to its maximum. NaN values are left blank.
+func FieldMapPNG(m *grids.Mesh, vals []float64, title, label string, diverging bool) ([]byte, error) {
+	if len(vals) != m.NumCells() {
+		return nil, fmt.Errorf("field map %q: %d values for %d cells", title, len(vals), m.NumCells())
+	}
+	if diverging {
+		return mapPlot(title, label, pointsOf(m), vals)
+	}
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, v := range vals {
+		if !math.IsNaN(v) {
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
+		}
+	}
+	if !(hi > lo) {
+		lo, hi = lo-1, lo+1
+	}
+	return mapPlotRange(title, label, pointsOf(m), vals, lo, hi)
+}
+
+// mapPlotRange is mapPlot with the colour scale from lo to hi.
+func mapPlotRange(title, label string, pts *meshPoints, vals []float64, lo, hi float64) ([]byte, error) {
 	cm := moreland.SmoothBlueRed()
-	cm.SetMin(-amp)
-	cm.SetMax(amp)
+	cm.SetMin(lo)
+	cm.SetMax(hi)
 	xl, yl := "x", "y"
 	if pts.sphere {
 		xl, yl = "longitude (degrees)", "latitude (degrees)"

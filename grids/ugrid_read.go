@@ -187,6 +187,11 @@ func readUGRID(f *ncio.File, path, topo string) (*Mesh, error) {
 		return nil, err
 	}
 	spec.CellStart = make([]int32, len(faces)+1)
+	nfv := 0
+	for _, fc := range faces {
+		nfv += len(fc)
+	}
+	spec.CellVerts = make([]int32, 0, nfv)
 	for c, fc := range faces {
 		if len(fc) < 3 {
 			return nil, fileErr(path, fnName, nil, "face %d has %d nodes; a face needs at least 3", c, len(fc))
@@ -227,23 +232,22 @@ func readUGRID(f *ncio.File, path, topo string) (*Mesh, error) {
 		if err := f.ReadInt32s(kindName, nil, nil, k); err != nil {
 			return nil, err
 		}
-		kindOf := make(map[[2]int32]EdgeKind, len(fileEdges))
-		for e, p := range fileEdges {
+		for e := range fileEdges {
 			if k[e] != int32(GreatArc) && k[e] != int32(Parallel) {
 				return nil, fileErr(path, kindName, nil, "edge %d has unknown kind %d", e, k[e])
 			}
-			kindOf[[2]int32{min(p[0], p[1]), max(p[0], p[1])}] = EdgeKind(k[e])
 		}
+		inc := incidence(nv, fileEdges)
 		spec.CellEdgeKinds = make([]EdgeKind, len(spec.CellVerts))
 		for c := 0; c < len(faces); c++ {
 			lo, hi := spec.CellStart[c], spec.CellStart[c+1]
 			for h := lo; h < hi; h++ {
 				a, b := spec.CellVerts[h], spec.CellVerts[lo+(h-lo+1)%(hi-lo)]
-				kk, ok := kindOf[[2]int32{min(a, b), max(a, b)}]
-				if !ok {
+				e := inc.find(fileEdges, a, b)
+				if e < 0 {
 					return nil, fileErr(path, kindName, nil, "face %d side %d–%d is not among the listed edges", c, a, b)
 				}
-				spec.CellEdgeKinds[h] = kk
+				spec.CellEdgeKinds[h] = EdgeKind(k[e])
 			}
 		}
 	}
@@ -363,17 +367,17 @@ func (m *Mesh) followEdges(fileEdges [][2]int32) error {
 	if slices.Equal(fileEdges, m.EdgeVerts) {
 		return nil // already in the file's order (every file colbridge writes)
 	}
-	byPair := make(map[[2]int32]int32, ne)
-	for e, p := range m.EdgeVerts {
-		byPair[[2]int32{min(p[0], p[1]), max(p[0], p[1])}] = int32(e)
-	}
+	inc := incidence(m.NumVerts(), m.EdgeVerts)
 	newOf := make([]int32, ne) // old edge → new index
 	for i := range newOf {
 		newOf[i] = -1
 	}
 	for i, p := range fileEdges {
-		old, ok := byPair[[2]int32{min(p[0], p[1]), max(p[0], p[1])}]
-		if !ok {
+		if p[0] < 0 || p[1] < 0 || int(p[0]) >= m.NumVerts() || int(p[1]) >= m.NumVerts() {
+			return fmt.Errorf("edge %d (%d–%d) refers to a missing node", i, p[0], p[1])
+		}
+		old := inc.find(m.EdgeVerts, p[0], p[1])
+		if old < 0 {
 			return fmt.Errorf("edge %d (%d–%d) is not a side of any face", i, p[0], p[1])
 		}
 		if newOf[old] >= 0 {
@@ -442,3 +446,37 @@ func ReadCellMask(path, name string, m *Mesh) ([]bool, error) {
 }
 
 var errNoLatLon = errors.New("no mesh topology and no latitude–longitude coordinates")
+
+// edgeIncidence lists the edges at each vertex (CSR), to find an edge by its end points
+// without a hash map (meshes have millions of edges).
+type edgeIncidence struct{ start, edges []int32 }
+
+func incidence(nv int, edges [][2]int32) edgeIncidence {
+	inc := edgeIncidence{start: make([]int32, nv+1), edges: make([]int32, 2*len(edges))}
+	for _, e := range edges {
+		inc.start[e[0]+1]++
+		inc.start[e[1]+1]++
+	}
+	for v := 0; v < nv; v++ {
+		inc.start[v+1] += inc.start[v]
+	}
+	fill := append([]int32(nil), inc.start[:nv]...)
+	for i, e := range edges {
+		for _, v := range e {
+			inc.edges[fill[v]] = int32(i)
+			fill[v]++
+		}
+	}
+	return inc
+}
+
+// find returns the edge joining a and b, or −1.
+func (inc edgeIncidence) find(edges [][2]int32, a, b int32) int {
+	for _, e := range inc.edges[inc.start[a]:inc.start[a+1]] {
+		p := edges[e]
+		if (p[0] == a && p[1] == b) || (p[0] == b && p[1] == a) {
+			return int(e)
+		}
+	}
+	return -1
+}

@@ -6,12 +6,12 @@ import (
 	"github.com/colbridge/colbridge/weights"
 )
 
-// roundTol: a value outside its bounds by less than this fraction of the bounds'
+// boundsRoundTol: a value outside its bounds by less than this fraction of the bounds'
 // magnitude is left alone. A convex combination of a row's sources computed in floating
 // point can leave their range by a few roundings (a row of 20 weights: about 20 ulp, 4e-15
 // relative); clipping those would move values for nothing, so first-order maps (weights
 // in [0, 1], rows summing to 1) pass unchanged.
-const roundTol = 1e-14
+const boundsRoundTol = 1e-14
 
 // clipAndAssuredSum is the clip-and-assured-sum (CAAS) fixer of Bradley, Bosler, Guba et
 // al. (2019, SIAM J. Sci. Comput.) on one slice: it moves the values y[i] of the active
@@ -19,7 +19,7 @@ const roundTol = 1e-14
 // weighted sum Σ w_i y_i:
 //
 //  1. clip: y_i ← min(max(y_i, lo_i), hi_i), for values outside by more than roundings
-//     (roundTol);
+//     (boundsRoundTol);
 //  2. the clipped mass Δ = Σ w_i y_i(before) − Σ w_i y_i(clipped), summed compensated;
 //  3. Δ > 0 is added in proportion to the room left below the upper bounds,
 //     y_i += Δ·(hi_i − y_i)/Σ_j w_j(hi_j − y_j); Δ < 0 is taken away in proportion to the
@@ -37,7 +37,7 @@ func clipAndAssuredSum(y, lo, hi, w []float64, active []bool) (changed int, feas
 		}
 		before.Add(w[i] * x)
 		c := x
-		if tol := roundTol * math.Max(math.Abs(lo[i]), math.Abs(hi[i])); x < lo[i]-tol || x > hi[i]+tol {
+		if tol := boundsRoundTol * math.Max(math.Abs(lo[i]), math.Abs(hi[i])); x < lo[i]-tol || x > hi[i]+tol {
 			c = min(max(x, lo[i]), hi[i])
 		}
 		if c != x {

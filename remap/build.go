@@ -17,6 +17,11 @@ const (
 )
 
 // Normalisations of partially covered targets.
+//
+// For the point methods (Interpolate, Nearest) a target's coverage is the share of its
+// stencil weight that falls on unmasked source cells (1 without a source mask, 0 outside
+// a regional source); "covered" renormalises the remaining weights to sum 1, "whole"
+// keeps them, so masked sources act as zeros.
 const (
 	// ByCovered divides by the covered part of each target: constants are preserved, and
 	// the target value is the mean over its covered part.

@@ -146,17 +146,34 @@ func (c *sphereClipper) mayDoubleCross(poly []cvert, pl halfPlane) bool {
 // cell, given the signed distances su, sw of opposite signs.
 func (c *sphereClipper) cross(u, w cvert, su, sw float64, k int) r3.Vec {
 	pl := c.clp.cPlanes[k]
+	e := c.edgePlane(u)
 	if u.clip {
 		// Along the clipping cell's own edge: meeting the next or previous edge of the
-		// same cell is that cell's vertex, taken from the mesh.
+		// same cell is that cell's vertex, taken from the mesh. The two circles also meet
+		// a second time; when the arc u→w lies on that far side (a subject cell large
+		// enough to reach it), the crossing is that other point: exactly −v for two
+		// great circles, else from the general computation below.
+		v, adjacent := r3.Vec{}, false
 		if nk := c.nextHE(int(u.he)); nk == k {
-			return c.clp.m.Verts[c.clp.cTo[u.he]]
+			v, adjacent = c.clp.m.Verts[c.clp.cTo[u.he]], true
+		} else if pk := c.nextHE(k); pk == int(u.he) {
+			v, adjacent = c.clp.m.Verts[c.clp.cTo[k]], true
 		}
-		if pk := c.nextHE(k); pk == int(u.he) {
-			return c.clp.m.Verts[c.clp.cTo[k]]
+		if adjacent {
+			// Of the two meeting points of the circles, the one on the arc is nearer the
+			// arc's chord midpoint; the other is a quarter circle or more away.
+			mid := r3.Add(u.p, w.p)
+			if e.d == 0 && pl.d == 0 {
+				if r3.Dot(v, mid) >= 0 {
+					return v
+				}
+				return r3.Scale(-1, v)
+			}
+			if x1, x2, ok := circleCircle(e, pl); !ok || math.Abs(r3.Dot(v, mid)-math.Max(r3.Dot(x1, mid), r3.Dot(x2, mid))) <= 1e-9 {
+				return v
+			}
 		}
 	}
-	e := c.edgePlane(u)
 	if e.d == 0 && pl.d == 0 {
 		if !u.clip {
 			// Subject great arc: from its original end points, so every piece of the

@@ -1,9 +1,9 @@
 package remap
 
 import (
-	"math"
-
 	"gonum.org/v1/gonum/spatial/r3"
+	"slices"
+	"sync"
 
 	"github.com/colbridge/colbridge/grids"
 	"github.com/colbridge/colbridge/internal/par"
@@ -40,112 +40,52 @@ func buildConservative(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) 
 	if err != nil {
 		return nil, err
 	}
-	ns, nt := src.NumCells(), tgt.NumCells()
+	ns := src.NumCells()
 	srcOn := func(s int) bool { return opt.SourceMask == nil || opt.SourceMask[s] }
 	tgtOn := func(t int) bool { return opt.TargetMask == nil || opt.TargetMask[t] }
 
-	// Covered areas (unit sphere or plane units) on both sides, compensated.
-	sUnit := 1 / (src.Scale() * src.Scale())
-	tUnit := 1 / (tgt.Scale() * tgt.Scale())
-	covS := make([]weights.Accumulator, ns)
-	covT := make([]weights.Accumulator, nt)
-	for s := 0; s < ns; s++ {
-		if !srcOn(s) {
-			continue
-		}
-		for p := o.SrcStart[s]; p < o.SrcStart[s+1]; p++ {
-			t := o.Tgt[p]
-			if !tgtOn(int(t)) {
-				continue
-			}
-			covS[s].Add(o.Area[p])
-			covT[t].Add(o.Area[p])
-		}
-	}
-	srcCov := make([]float64, ns)
-	tgtCov := make([]float64, nt)
-	for s := range srcCov {
-		srcCov[s] = math.Min(1, covS[s].Sum()/(src.CellArea[s]*sUnit))
-	}
-	denom := make([]float64, nt) // what each row is divided by, in unit area
-	for t := range tgtCov {
-		c := covT[t].Sum()
-		tgtCov[t] = math.Min(1, c/(tgt.CellArea[t]*tUnit))
-		if opt.Normalization == ByCovered {
-			denom[t] = c
-		} else {
-			denom[t] = tgt.CellArea[t] * tUnit
-		}
-	}
+	srcCov, tgtCov, denom := coverages(o, opt, srcOn, tgtOn)
 
 	var grad *gradients
 	if opt.Order == 2 {
 		grad = newGradients(src, srcOn, opt.Workers)
 	}
 
-	// Triplets per source cell, built in parallel, assembled in source order.
-	type part struct {
-		lo  int
-		ts  []weights.Triplet
-		err error
+	// The centred piece moments d, per source, in parallel (order 2), written over the
+	// pieces' moments (which are not needed afterwards).
+	var d []r3.Vec
+	if grad != nil {
+		d = o.Moment
+		par.For(ns, opt.Workers, 1024, func(lo, hi int) {
+			var buf []r3.Vec
+			for s := lo; s < hi; s++ {
+				if srcOn(s) {
+					buf = pieceMoments(o, s, tgtOn, buf[:0])
+					copy(d[o.SrcStart[s]:o.SrcStart[s+1]], buf)
+				}
+			}
+		})
+		o.Moment = nil
 	}
-	var parts []part
-	results := make(chan part, 64)
-	done := make(chan struct{})
-	go func() {
-		for p := range results {
-			parts = append(parts, p)
+	active := func(t int32) bool { return tgtOn(int(t)) && denom[t] != 0 }
+	w := assembleRows(o, opt.Workers, func(p int64, s int, t int32, emit func(col int32, v float64)) {
+		if !srcOn(s) || !active(t) {
+			return
 		}
-		close(done)
-	}()
-	par.For(ns, opt.Workers, 1024, func(lo, hi int) {
-		var ts []weights.Triplet
-		var d []r3.Vec
-		for s := lo; s < hi; s++ {
-			if !srcOn(s) {
-				continue
+		inv := 1 / denom[t]
+		a := o.Area[p]
+		if grad != nil {
+			nb, gk := grad.of(s)
+			sum := 0.0
+			for i, k := range nb {
+				c := r3.Dot(gk[i], d[p])
+				sum += c
+				emit(k, c*inv)
 			}
-			p0, p1 := o.SrcStart[s], o.SrcStart[s+1]
-			if grad != nil {
-				d = pieceMoments(o, s, tgtOn, d[:0])
-			}
-			for p := p0; p < p1; p++ {
-				t := o.Tgt[p]
-				if !tgtOn(int(t)) || denom[t] == 0 {
-					continue
-				}
-				inv := 1 / denom[t]
-				w := o.Area[p]
-				if grad != nil {
-					dp := d[p-p0]
-					nb, gk := grad.of(s)
-					sum := 0.0
-					for i, k := range nb {
-						c := r3.Dot(gk[i], dp)
-						sum += c
-						ts = append(ts, weights.Triplet{Row: t, Col: k, Value: c * inv})
-					}
-					w -= sum
-				}
-				ts = append(ts, weights.Triplet{Row: t, Col: int32(s), Value: w * inv})
-			}
+			a -= sum
 		}
-		results <- part{lo: lo, ts: ts}
+		emit(int32(s), a*inv)
 	})
-	close(results)
-	<-done
-	total := 0
-	for _, p := range parts {
-		total += len(p.ts)
-	}
-	all := make([]weights.Triplet, 0, total)
-	// Deterministic assembly: FromTriplets sorts stably by (row, column), so the order in
-	// which parts arrive must not matter: sort parts by their first source.
-	sortParts(parts, func(i int) int { return parts[i].lo })
-	for _, p := range parts {
-		all = append(all, p.ts...)
-	}
-	w := weights.FromTriplets(nt, ns, all)
 	m := &weights.Map{
 		W:      w,
 		Source: cellSide(src, srcCov),
@@ -320,4 +260,103 @@ func vertexNeighbours(m *grids.Mesh, c int, dst []int32) []int32 {
 	}
 	sortInt32(dst)
 	return dst
+}
+
+// assembleRows builds the matrix row by row (rows are targets): it groups the pieces by
+// target, calls contrib for each piece of a row in increasing source order, and sums the
+// emitted (column, value) pairs of a row by column in the order they were emitted. Rows
+// are built in parallel; the result does not depend on the number of workers. This needs
+// one matrix-sized buffer per block instead of a triplet list and its sorted copy (for
+// the cubed sphere N = 384 to 0.25° at order 2: 17 million weights, about 0.4 GB less).
+func assembleRows(o *Overlaps, workers int, contrib func(p int64, s int, t int32, emit func(col int32, v float64))) *weights.CSR {
+	ns, nt := o.Source.NumCells(), o.Target.NumCells()
+	// Pieces by target (counting sort; sources stay increasing within a target).
+	tStart := make([]int64, nt+1)
+	for _, t := range o.Tgt {
+		tStart[t+1]++
+	}
+	for t := 0; t < nt; t++ {
+		tStart[t+1] += tStart[t]
+	}
+	byT := make([]int64, o.Len())
+	srcOf := make([]int32, o.Len())
+	next := append([]int64(nil), tStart[:nt]...)
+	for s := 0; s < ns; s++ {
+		for p := o.SrcStart[s]; p < o.SrcStart[s+1]; p++ {
+			t := o.Tgt[p]
+			byT[next[t]] = p
+			srcOf[next[t]] = int32(s)
+			next[t]++
+		}
+	}
+	next = nil
+	type block struct {
+		lo   int
+		rows []int32 // entries per row
+		cols []int32
+		vals []float64
+	}
+	var mu sync.Mutex
+	var blocks []*block
+	par.For(nt, workers, 2048, func(lo, hi int) {
+		b := &block{lo: lo, rows: make([]int32, hi-lo)}
+		est := int(tStart[hi]-tStart[lo]) * 2
+		b.cols, b.vals = make([]int32, 0, est), make([]float64, 0, est)
+		var rc []int32
+		var rv []float64
+		emit := func(col int32, v float64) { rc, rv = append(rc, col), append(rv, v) }
+		for t := lo; t < hi; t++ {
+			rc, rv = rc[:0], rv[:0]
+			for q := tStart[t]; q < tStart[t+1]; q++ {
+				contrib(byT[q], int(srcOf[q]), int32(t), emit)
+			}
+			n0 := len(b.cols)
+			appendMerged(&b.cols, &b.vals, rc, rv)
+			b.rows[t-lo] = int32(len(b.cols) - n0)
+		}
+		mu.Lock()
+		blocks = append(blocks, b)
+		mu.Unlock()
+	})
+	slices.SortFunc(blocks, func(x, y *block) int { return x.lo - y.lo })
+	total := 0
+	for _, b := range blocks {
+		total += len(b.cols)
+	}
+	w := &weights.CSR{Rows: nt, Cols: ns, RowStart: make([]int64, nt+1),
+		ColIndex: make([]int32, 0, total), Values: make([]float64, 0, total)}
+	for _, b := range blocks {
+		for i, n := range b.rows {
+			w.RowStart[b.lo+i+1] = int64(n)
+		}
+		w.ColIndex = append(w.ColIndex, b.cols...)
+		w.Values = append(w.Values, b.vals...)
+		b.cols, b.vals = nil, nil
+	}
+	for t := 0; t < nt; t++ {
+		w.RowStart[t+1] += w.RowStart[t]
+	}
+	return w
+}
+
+// appendMerged appends the pairs (rc, rv) to (cols, vals) sorted by column, summing pairs
+// with the same column in their given order. It reorders rc and rv.
+func appendMerged(cols *[]int32, vals *[]float64, rc []int32, rv []float64) {
+	// Insertion sort by column, stable (rows hold a few dozen entries).
+	for i := 1; i < len(rc); i++ {
+		for j := i; j > 0 && rc[j] < rc[j-1]; j-- {
+			rc[j], rc[j-1] = rc[j-1], rc[j]
+			rv[j], rv[j-1] = rv[j-1], rv[j]
+		}
+	}
+	for i := 0; i < len(rc); {
+		v := rv[i]
+		j := i + 1
+		for ; j < len(rc) && rc[j] == rc[i]; j++ {
+			v += rv[j]
+		}
+		*cols = append(*cols, rc[i])
+		*vals = append(*vals, v)
+		i = j
+	}
 }

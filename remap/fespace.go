@@ -97,7 +97,7 @@ func feMeasure(m *grids.Mesh, space grids.HLocation, bs []*feBasis) ([]float64, 
 	var poly []PolyVertex
 	s2 := m.Scale() * m.Scale()
 	for c, b := range bs {
-		poly = cellPolygon(m, c, poly[:0])
+		poly = cellPolygon(m, c, m.Verts[m.CellVerts[m.CellStart[c]]], poly[:0])
 		b.integrate(cell[c][:], poly, &r, sc)
 		for i, d := range b.dofs {
 			acc[d].Add(cell[c][i] * s2)

@@ -336,18 +336,3 @@ func (b *feBasis) integrate(out []float64, poly []PolyVertex, r *feRule, sc *feS
 	}
 	return area
 }
-
-// cellPolygon returns cell c as an overlap-style polygon (with the circle of each
-// Parallel edge), in the cell's own frame on the plane.
-func cellPolygon(m *grids.Mesh, c int, dst []PolyVertex) []PolyVertex {
-	var buf [16]r3.Vec
-	vs := m.CellPoints(c, buf[:0])
-	for k, v := range vs {
-		pv := PolyVertex{P: v}
-		if m.Surface == grids.Sphere && m.Kind(int(m.CellEdges[int(m.CellStart[c])+k])) == grids.Parallel {
-			pv.M, pv.D = sphere.ParallelCircle(v, vs[(k+1)%len(vs)])
-		}
-		dst = append(dst, pv)
-	}
-	return dst
-}

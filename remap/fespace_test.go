@@ -98,7 +98,7 @@ func TestFEPlaneExact(t *testing.T) {
 	mustMesh(t, tq, err)
 	tt, err := grids.NewPlane(grids.PlaneSpec{NX: 5, NY: 6, Lx: 2, Ly: 1, Triangles: true})
 	mustMesh(t, tt, err)
-	tgts := map[string]*grids.Mesh{"quads7x4": tq, "tri5x6": tt, "jittered-quads": jitteredPlane(t, 6, 5, 0.22, false, 9)}
+	tgts := map[string]*grids.Mesh{"quads7x4": tq, "tri5x6": tt, "jittered-quads": jitteredPlane(t, 6, 5, 2, 0.22, false, 9)}
 	fields := map[string]planeField{
 		"constant":  {1.7},
 		"linear":    {0.3, 1.7, -0.9},

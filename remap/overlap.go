@@ -178,6 +178,13 @@ type piece struct {
 
 func (e *overlapEngine) doBlock(worker, lo, hi int) *block {
 	b := &block{lo: lo, hi: hi, count: make([]int32, hi-lo)}
+	// Most meshes meet a handful of cells of the other (about 5 on the pairs):
+	// reserve for 6 per source so the block's slices rarely grow.
+	est := 6 * (hi - lo)
+	b.tgt, b.area = make([]int32, 0, est), make([]float64, 0, est)
+	if e.opt.Moments {
+		b.mom = make([]r3.Vec, 0, est)
+	}
 	cl := e.newClipper()
 	tm := e.tg.m
 	stamp := make([]int32, tm.NumCells())

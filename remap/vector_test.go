@@ -31,28 +31,31 @@ func planeMeshes(t testing.TB) map[string]*grids.Mesh {
 			out[fmt.Sprintf("tri=%v/periodic=%v", tri, per)] = m
 		}
 	}
-	out["jittered-quads"] = jitteredPlane(t, 10, 7, 0.2, false, 1)
-	out["jittered-triangles"] = jitteredPlane(t, 9, 8, 0.2, true, 2)
+	out["jittered-quads"] = jitteredPlane(t, 10, 7, 2, 0.2, false, 1)
+	out["jittered-triangles"] = jitteredPlane(t, 9, 8, 2, 0.2, true, 2)
 	return out
 }
 
 // jitteredPlane returns a non-periodic nx × ny mesh of [0, 2] × [0, 1] whose interior
 // vertices are moved by up to frac of a cell in each direction (seeded; frac < 0.25 keeps
 // the cells convex).
-func jitteredPlane(t testing.TB, nx, ny int, frac float64, tri bool, seed uint64) *grids.Mesh {
-	base, err := grids.NewPlane(grids.PlaneSpec{NX: nx, NY: ny, Lx: 2, Ly: 1, Triangles: tri})
+// jitteredPlane returns an nx × ny planar mesh of [0, lx] × [0, 1] whose interior vertices
+// are moved by up to frac of a cell in x and y (uniform random, fixed seed).
+func jitteredPlane(t testing.TB, nx, ny int, lx, frac float64, tri bool, seed uint64) *grids.Mesh {
+	t.Helper()
+	base, err := grids.NewPlane(grids.PlaneSpec{NX: nx, NY: ny, Lx: lx, Ly: 1, Triangles: tri})
 	mustMesh(t, base, err)
 	rng := rand.New(rand.NewPCG(seed, 7))
-	dx, dy := 2/float64(nx), 1/float64(ny)
+	dx, dy := lx/float64(nx), 1/float64(ny)
 	verts := make([]r3.Vec, len(base.Verts))
 	for i, v := range base.Verts {
 		verts[i] = v
-		if v.X > 0 && v.X < 2 && v.Y > 0 && v.Y < 1 {
+		if v.X > 0 && v.X < lx && v.Y > 0 && v.Y < 1 {
 			verts[i].X += frac * dx * (2*rng.Float64() - 1)
 			verts[i].Y += frac * dy * (2*rng.Float64() - 1)
 		}
 	}
-	m, err := grids.Build(grids.MeshSpec{Name: "jittered", Surface: grids.Plane, Lx: 2, Ly: 1,
+	m, err := grids.Build(grids.MeshSpec{Name: "jittered " + base.Name, Surface: grids.Plane, Lx: lx, Ly: 1,
 		Verts: verts, CellStart: base.CellStart, CellVerts: base.CellVerts})
 	return mustMesh(t, m, err)
 }

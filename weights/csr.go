@@ -69,35 +69,45 @@ type Triplet struct {
 }
 
 // FromTriplets returns the rows × cols matrix with the given entries, sorted by row and
-// column; entries with the same row and column are summed (in input order, so the result
-// is deterministic). ts is sorted in place. It panics if an index is out of range.
+// column; entries with the same row and column are summed in input order, so the result
+// is deterministic. It runs in O(n + Σ r log r) (a counting sort by row, then each row of
+// length r by column). ts is not modified. It panics if an index is out of range.
 func FromTriplets(rows, cols int, ts []Triplet) *CSR {
-	slices.SortStableFunc(ts, func(a, b Triplet) int {
-		if a.Row != b.Row {
-			return int(a.Row) - int(b.Row)
-		}
-		return int(a.Col) - int(b.Col)
-	})
-	w := &CSR{Rows: rows, Cols: cols, RowStart: make([]int64, rows+1)}
-	w.ColIndex = make([]int32, 0, len(ts))
-	w.Values = make([]float64, 0, len(ts))
-	for i := 0; i < len(ts); {
-		t := ts[i]
+	count := make([]int64, rows+1)
+	for _, t := range ts {
 		if t.Row < 0 || int(t.Row) >= rows || t.Col < 0 || int(t.Col) >= cols {
 			panic(fmt.Sprintf("weights: FromTriplets: entry (%d, %d) outside %d × %d", t.Row, t.Col, rows, cols))
 		}
-		v := t.Value
-		j := i + 1
-		for ; j < len(ts) && ts[j].Row == t.Row && ts[j].Col == t.Col; j++ {
-			v += ts[j].Value
-		}
-		w.ColIndex = append(w.ColIndex, t.Col)
-		w.Values = append(w.Values, v)
-		w.RowStart[t.Row+1]++
-		i = j
+		count[t.Row+1]++
 	}
 	for i := 0; i < rows; i++ {
-		w.RowStart[i+1] += w.RowStart[i]
+		count[i+1] += count[i]
+	}
+	// Stable counting sort by row.
+	byRow := make([]Triplet, len(ts))
+	next := make([]int64, rows)
+	copy(next, count[:rows])
+	for _, t := range ts {
+		byRow[next[t.Row]] = t
+		next[t.Row]++
+	}
+	w := &CSR{Rows: rows, Cols: cols, RowStart: make([]int64, rows+1)}
+	w.ColIndex = make([]int32, 0, len(ts))
+	w.Values = make([]float64, 0, len(ts))
+	for i := 0; i < rows; i++ {
+		row := byRow[count[i]:count[i+1]]
+		slices.SortStableFunc(row, func(a, b Triplet) int { return int(a.Col) - int(b.Col) })
+		for k := 0; k < len(row); {
+			v := row[k].Value
+			j := k + 1
+			for ; j < len(row) && row[j].Col == row[k].Col; j++ {
+				v += row[j].Value
+			}
+			w.ColIndex = append(w.ColIndex, row[k].Col)
+			w.Values = append(w.Values, v)
+			k = j
+		}
+		w.RowStart[i+1] = int64(len(w.Values))
 	}
 	return w
 }

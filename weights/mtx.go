@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"os"
+	"path/filepath"
 	"strconv"
 	"strings"
 )
@@ -150,4 +152,27 @@ func ReadMatrixMarket(r io.Reader) (*CSR, error) {
 		}
 	}
 	return FromTriplets(int(rows), int(cols), ts), nil
+}
+
+// WriteMatrixMarketFile writes w to path in Matrix Market form through a temporary file in
+// the same directory, renamed when complete.
+func WriteMatrixMarketFile(path string, w *CSR, comments ...string) error {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
+	if err != nil {
+		return err
+	}
+	if err := WriteMatrixMarket(f, w, comments...); err != nil {
+		f.Close()
+		os.Remove(f.Name())
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if err := f.Close(); err != nil {
+		os.Remove(f.Name())
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if err := os.Rename(f.Name(), path); err != nil {
+		os.Remove(f.Name())
+		return err
+	}
+	return nil
 }

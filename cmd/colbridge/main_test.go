@@ -79,3 +79,48 @@ func TestContentArgs(t *testing.T) {
 		t.Errorf("got %q", got)
 	}
 }
+
+// TestWeightsAndAuditAcceptance is issue 3's and 5's acceptance path: build a first-order
+// conservative map, audit it (conservation and consistency ≤ 1e-13, DESIGN.md §5), audit
+// its Matrix Market export as a foreign matrix, and see a failing gate exit with 3.
+func TestWeightsAndAuditAcceptance(t *testing.T) {
+	dir := t.TempDir()
+	p := func(n string) string { return filepath.Join(dir, n) }
+	for _, args := range [][]string{
+		{"mesh", "make", "cubed", "--n", "6", "-o", p("c.nc")},
+		{"mesh", "make", "latlon", "--nlon", "36", "--nlat", "18", "-o", p("ll.nc")},
+		{"weights", "--source", p("c.nc"), "--target", p("ll.nc"), "--method", "conservative", "--order", "1", "-o", p("m.nc")},
+		{"weights", "--source", p("c.nc"), "--target", p("ll.nc"), "--method", "conservative", "--order", "2", "-o", p("m2.mtx")},
+	} {
+		if code, _, stderr := runCmd(t, args...); code != 0 {
+			t.Fatalf("%v: exit %d: %s", args, code, stderr)
+		}
+	}
+	code, out, stderr := runCmd(t, "audit", p("m.nc"), "--json")
+	if code != 0 {
+		t.Fatalf("audit: exit %d: %s", code, stderr)
+	}
+	var r struct {
+		Conservation *float64 `json:"conservation_max_defect"`
+		Consistency  float64  `json:"consistency_max_defect"`
+		Negative     int      `json:"negative_weights"`
+		Entries      int      `json:"entries"`
+		Passed       bool     `json:"passed"`
+	}
+	if err := json.Unmarshal([]byte(out), &r); err != nil {
+		t.Fatal(err)
+	}
+	if r.Conservation == nil || *r.Conservation > 1e-13 || r.Consistency > 1e-13 || r.Negative != 0 || r.Entries == 0 || !r.Passed {
+		t.Errorf("audit: %+v", r)
+	}
+	// The order-2 matrix as a foreign Matrix Market file: conservative and consistent,
+	// but with negative weights, so --strict (no negative weights) fails with exit 3.
+	code, out, _ = runCmd(t, "audit", "--matrix", p("m2.mtx"), "--source", p("c.nc"), "--target", p("ll.nc"), "--strict")
+	if code != 3 || !strings.Contains(out, "negative") {
+		t.Errorf("strict audit of an order-2 matrix: exit %d, want 3\n%s", code, out)
+	}
+	code, _, _ = runCmd(t, "audit", "--matrix", p("m2.mtx"), "--source", p("c.nc"), "--target", p("ll.nc"), "--max-consistency-error", "1e-12", "--max-conservation-defect", "1e-12")
+	if code != 0 {
+		t.Errorf("order-2 matrix within its gates: exit %d", code)
+	}
+}

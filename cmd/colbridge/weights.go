@@ -28,7 +28,7 @@ func runWeights(args []string, e *env) error {
 	srcMask := fs.String("source-mask", "", "variable of the source mesh file on its faces; cells where it is 0 take no part")
 	tgtMask := fs.String("target-mask", "", "variable of the target mesh file on its faces; cells where it is 0 are not filled")
 	plan := fs.String("plan", "", "coupling plan (TOML): build every map of the coupling into a bundle directory")
-	out := fs.StringP("output", "o", "", "the map file (or, with --plan, the bundle directory) to write")
+	out := fs.StringP("output", "o", "", "the map file to write (NetCDF; Matrix Market when the name ends in .mtx), or with --plan the bundle directory")
 	workers := fs.Int("workers", 0, "goroutines to use (0: all cores); the map file is identical for any value")
 	quiet := fs.BoolP("quiet", "q", false, "no progress bar and no summary line")
 	if err := parse(fs, args, e); err != nil {
@@ -83,7 +83,12 @@ func runWeights(args []string, e *env) error {
 	if err != nil {
 		return usageOr(err, fmt.Errorf("weights %s → %s: %w", *src, *tgt, err))
 	}
-	if err := weights.WriteMap(*out, m); err != nil {
+	if strings.HasSuffix(*out, ".mtx") {
+		comment := fmt.Sprintf("colbridge %s map: %s order %d, rows = targets (%s), columns = sources (%s)", version, m.Method, m.Order, m.Target.MeshName, m.Source.MeshName)
+		if err := weights.WriteMatrixMarketFile(*out, m.W, comment); err != nil {
+			return err
+		}
+	} else if err := weights.WriteMap(*out, m); err != nil {
 		return err
 	}
 	if !*quiet {
