@@ -181,10 +181,10 @@ func runPipeline(jobs []*job, w *ncio.Writer, in *inputFile, opt ApplyOptions, r
 			}
 			t.out = o
 			if err := t.j.compute(t, sc); err != nil {
-				fail(err)
+				fail(fmt.Errorf("%s: %w", in.path, err))
 				return
 			}
-			track(sc.bytes() + slotBytes(inFree, outFree, t))
+			track(sc.bytes() + slotBytes(t))
 			inFree <- t.in
 			t.in = nil
 			select {
@@ -217,8 +217,9 @@ func runPipeline(jobs []*job, w *ncio.Writer, in *inputFile, opt ApplyOptions, r
 	return firstErr
 }
 
-// slotBytes estimates the bytes held by all slots (they grow to the largest chunk).
-func slotBytes(_ chan *inSlot, _ chan *outSlot, t *chunkTask) int64 {
+// slotBytes estimates the bytes held by all slots from the pair a chunk uses (slots grow
+// to the largest chunk, so the others are at most as large).
+func slotBytes(t *chunkTask) int64 {
 	var b int64
 	for _, x := range t.in.x {
 		b += int64(cap(x)) * 8
