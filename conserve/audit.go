@@ -32,6 +32,14 @@ func Audit(m *weights.Map, opt Options) (*Report, error) {
 		Failures: []Failure{}, Notes: []string{},
 	}
 	note := func(format string, args ...any) { r.Notes = append(r.Notes, fmt.Sprintf(format, args...)) }
+	for _, h := range []grids.HLocation{m.Source.Location.H, m.Target.Location.H} {
+		if h == grids.EdgeNormal || h == grids.EdgeTangential {
+			r.VectorComponent = true
+		}
+	}
+	if r.VectorComponent {
+		note("a component of a vector map (%s to %s): the sums of its weights mix directions, so the conservation, consistency and bounds of scalar fields are shown but not gated; the pair check and the energy inner products judge it", m.Source.Location, m.Target.Location)
+	}
 
 	srcMesh, err := cellMesh(opt.SourceMesh, &m.Source, "source")
 	if err != nil {

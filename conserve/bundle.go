@@ -170,7 +170,11 @@ func WriteBundleText(out io.Writer, b *BundleReport) error {
 		if !r.Passed {
 			v = "FAILED"
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\n", m.Name, r.Method, cons, e2(r.ConsistencyMaxDefect), r.NegativeWeights, pd, rt, v)
+		consist, neg := e2(r.ConsistencyMaxDefect), fmt.Sprint(r.NegativeWeights)
+		if r.VectorComponent {
+			cons, consist, neg, rt = "vector", "vector", "vector", "—"
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", m.Name, r.Method, cons, consist, neg, pd, rt, v)
 	}
 	if err := tw.Flush(); err != nil {
 		return err

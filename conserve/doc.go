@@ -62,6 +62,9 @@
 //	consistency_max_defect    max |row sum − 1| over covered targets
 //	negative_weights          number of entries < 0
 //	passed                    true when no gate failed
+//	vector_component          true for one component of a vector map (a side at
+//	                          edge-normal or edge-tangential): scalar conservation,
+//	                          consistency and bounds are shown but not gated
 //	failures                  list of {gate, key, value (null if not measured), limit,
 //	                          reason}
 //	conservation              null without measures, else:

@@ -50,11 +50,22 @@ func StrictThresholds() Thresholds {
 	}
 }
 
-// Evaluate returns the failed gates of r, in the order of the Thresholds fields.
+// scalarGates are the gates that judge a map of scalar fields; they do not apply to one
+// component of a vector map (edge-normal ↔ east/north), whose sums of weights mix
+// directions.
+var scalarGates = map[string]bool{
+	"max-conservation-defect": true, "max-consistency-defect": true, "max-mass-error": true,
+	"no-negative-weights": true, "max-overshoot": true, "max-l2-error": true,
+	"max-round-trip-mass-error": true, "max-idempotence-defect": true,
+}
+
+// Evaluate returns the failed gates of r, in the order of the Thresholds fields. For a
+// component of a vector map (Report.VectorComponent) only the gates that are not about
+// scalar fields are evaluated: the pair and the noise.
 func (t Thresholds) Evaluate(r *Report) []Failure {
 	var out []Failure
 	check := func(gate, key string, limit float64, v *float64, atLeast bool) {
-		if limit == 0 {
+		if limit == 0 || (r.VectorComponent && scalarGates[gate]) {
 			return
 		}
 		switch {
@@ -76,7 +87,7 @@ func (t Thresholds) Evaluate(r *Report) []Failure {
 		mass = ptr(r.Conservation.MaxMassError)
 	}
 	check("max-mass-error", "conservation.max_mass_error", t.MaxMassError, mass, false)
-	if t.NoNegativeWeights && r.NegativeWeights > 0 {
+	if t.NoNegativeWeights && r.NegativeWeights > 0 && !r.VectorComponent {
 		v := float64(r.NegativeWeights)
 		out = append(out, Failure{Gate: "no-negative-weights", Key: "negative_weights", Value: &v,
 			Reason: fmt.Sprintf("%d negative weights, most negative %.3g", r.NegativeWeights, r.Bounds.MostNegative)})

@@ -30,6 +30,10 @@ type Report struct {
 
 	Passed   bool      `json:"passed"`
 	Failures []Failure `json:"failures"`
+	// VectorComponent is true for one component of a vector map (a side at edge-normal or
+	// edge-tangential locations): conservation, consistency and bounds of scalar fields
+	// are measured but not gated, since its weights mix directions.
+	VectorComponent bool `json:"vector_component"`
 
 	Conservation *ConservationReport `json:"conservation"`
 	Consistency  ConsistencyReport   `json:"consistency"`

@@ -15,7 +15,7 @@ import (
 // the first seven after the header are the ones DESIGN.md §8 requires of `audit --json`.
 var topKeys = []string{
 	"schema", "method", "order", "source", "target",
-	"sources", "targets", "entries",
+	"sources", "targets", "entries", "vector_component",
 	"conservation_max_defect", "consistency_max_defect", "negative_weights", "passed",
 	"failures", "conservation", "consistency", "bounds", "pair", "round_trip", "fourier",
 	"sphere_noise", "null_space", "accuracy", "convergence", "notes",

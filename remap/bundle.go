@@ -77,11 +77,24 @@ func BuildBundle(p *Plan, dir string, opt BundleOptions) (*BundleResult, error) 
 			}
 		}
 	}
+	// Mesh files are recorded relative to the bundle directory, so the bundle can be
+	// audited and applied from anywhere (and moved together with its meshes).
+	relToBundle := func(path string) string {
+		abs, err1 := filepath.Abs(path)
+		absDir, err2 := filepath.Abs(dir)
+		if err1 != nil || err2 != nil {
+			return path
+		}
+		if r, err := filepath.Rel(absDir, abs); err == nil {
+			return r
+		}
+		return abs
+	}
 	man := &weights.Manifest{
 		Format: weights.ManifestFormat, Version: weights.Version,
 		Plan: filepath.Base(p.Path), PlanHash: p.Hash,
-		Dynamics: weights.MeshRef{File: p.Dynamics.Mesh, Name: dyn.Name, Fingerprint: dyn.Fingerprint()},
-		Columns:  weights.MeshRef{File: p.Columns.Mesh, Name: cols.Name, Fingerprint: cols.Fingerprint()},
+		Dynamics: weights.MeshRef{File: relToBundle(p.MeshPath(p.Dynamics)), Name: dyn.Name, Fingerprint: dyn.Fingerprint()},
+		Columns:  weights.MeshRef{File: relToBundle(p.MeshPath(p.Columns)), Name: cols.Name, Fingerprint: cols.Fingerprint()},
 	}
 	if dynLev != nil {
 		man.DynLev = levelsRef(dynLev)

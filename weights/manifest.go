@@ -14,7 +14,8 @@ const ManifestFormat = "colbridge-bundle-1"
 // ManifestName is the manifest's file name inside a bundle directory.
 const ManifestName = "manifest.json"
 
-// MeshRef names a mesh file and the fingerprint of the mesh it held.
+// MeshRef names a mesh file (relative to the bundle directory) and the fingerprint of the
+// mesh it held.
 type MeshRef struct {
 	File        string `json:"file"`
 	Name        string `json:"name,omitempty"`

@@ -1,11 +1,21 @@
 package scenario
 
-import _ "embed"
+import (
+	_ "embed"
+	"fmt"
+	"strings"
+)
 
-// Plan is the demo's coupling plan (TOML), written next to its meshes by Run.
+// planTemplate is the demo's coupling plan (TOML) with its levels left open.
 //
 //go:embed coupling.toml
-var Plan []byte
+var planTemplate string
+
+// plan returns the coupling plan for the scenario's levels.
+func (s Scenario) plan() []byte {
+	r := strings.NewReplacer("{{NLEV}}", fmt.Sprint(s.NLev), "{{TOP}}", fmt.Sprintf("%.1f", s.Top), "{{STRETCH}}", fmt.Sprintf("%.1f", s.Stretch))
+	return []byte(r.Replace(planTemplate))
+}
 
 // PlanFile is the name the plan is written under.
 const PlanFile = "coupling.toml"

@@ -50,8 +50,9 @@ func (s Scenario) Meshes() (dyn, col *grids.Mesh, lev *grids.Levels, err error) 
 	return
 }
 
-// Run builds the scenario's meshes into dir and prints their summaries to w.
-func (s Scenario) Run(dir string, w io.Writer) error {
+// Prepare writes the scenario's meshes, its coupling plan and a day of dynamics fields
+// into dir and prints a summary of the meshes to w.
+func (s Scenario) Prepare(dir string, w io.Writer) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
@@ -59,9 +60,8 @@ func (s Scenario) Run(dir string, w io.Writer) error {
 	if err != nil {
 		return fmt.Errorf("demo meshes: %w", err)
 	}
-	fmt.Fprintln(w, "colbridge demo: a cubed-sphere dynamical core coupled to hexagonal physics columns")
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "side\tmesh\tcells\tedges\tvertices\tmean cell size\tarea error\tfile")
+	fmt.Fprintln(tw, "  side\tmesh\tcells\tedges\tvertices\tmean cell size\tarea error\tfile")
 	for _, r := range []struct {
 		side string
 		m    *grids.Mesh
@@ -73,24 +73,21 @@ func (s Scenario) Run(dir string, w io.Writer) error {
 		}
 		total := r.m.TotalArea()
 		exact := 4 * math.Pi * r.m.Radius * r.m.Radius
-		size := sqrt(total/float64(r.m.NumCells())) / 1e3
-		fmt.Fprintf(tw, "%s\t%s\t%d\t%d\t%d\t%.0f km\t%.1e\t%s\n", r.side, r.m.Name, r.m.NumCells(), r.m.NumEdges(), r.m.NumVerts(), size, (total-exact)/exact, path)
+		size := math.Sqrt(total/float64(r.m.NumCells())) / 1e3
+		fmt.Fprintf(tw, "  %s\t%s\t%d\t%d\t%d\t%.0f km\t%.1e\t%s\n", r.side, r.m.Name, r.m.NumCells(), r.m.NumEdges(), r.m.NumVerts(), size, (total-exact)/exact, r.file)
 	}
 	if err := tw.Flush(); err != nil {
 		return err
 	}
-	if err := os.WriteFile(filepath.Join(dir, PlanFile), Plan, 0o644); err != nil {
-		return err
-	}
-	fields, err := s.WriteFields(dir, dyn, lev)
-	if err != nil {
-		return err
-	}
-	fmt.Fprintf(w, "fields: %s (air_density, layer_mass, theta, tracer, u, surface_pressure at 2 times; invented from the 1976 standard atmosphere and Williamson test case 2)\n", fields)
 	dz := lev.Thicknesses()
-	fmt.Fprintf(w, "levels: %d layers from 0 to %.0f km, %.0f m thick at the ground, %.0f m at the top; dynamics temperature %s, physics %s\n",
+	fmt.Fprintf(w, "  levels: %d layers from 0 to %.0f km, %.0f m thick at the ground, %.0f m at the top; temperature on %s (dynamics) and %s (physics) levels\n",
 		lev.NLev(), s.Top/1e3, dz[0], dz[len(dz)-1], s.DynamicsStagg, s.ColumnsStagg)
+	if err := os.WriteFile(filepath.Join(dir, PlanFile), s.plan(), 0o644); err != nil {
+		return err
+	}
+	if _, err := s.WriteFields(dir, dyn, lev); err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "  wrote %s, %s and %s (a day: %v h)\n", s.DynamicsFile, s.ColumnsFile, FieldsFile, Hours)
 	return nil
 }
-
-func sqrt(x float64) float64 { return math.Sqrt(x) }
