@@ -105,16 +105,7 @@ func TestConvergenceOrder(t *testing.T) {
 			tgtMeans = append(tgtMeans, exactMeans(tgt, fc.f, 8))
 		}
 		for _, order := range []int{1, 2} {
-			var errs []float64
-			for i, mm := range meshes {
-				w, err := Build(mm[0], mm[1], Options{Method: Conservative, Order: order})
-				if err != nil {
-					t.Fatal(err)
-				}
-				got := make([]float64, w.W.Rows)
-				w.ApplyTo(got, srcMeans[i])
-				errs = append(errs, l2Error(mm[1].CellArea, got, tgtMeans[i]))
-			}
+			errs := convergenceErrors(t, meshes, srcMeans, tgtMeans, order)
 			o1 := math.Log2(errs[0] / errs[1])
 			o2 := math.Log2(errs[1] / errs[2])
 			t.Logf("%s order %d: L2 errors %.3g %.3g %.3g, observed orders %.2f %.2f", fc.name, order, errs[0], errs[1], errs[2], o1, o2)
@@ -124,4 +115,22 @@ func TestConvergenceOrder(t *testing.T) {
 		}
 	}
 	_ = fmt.Sprint
+}
+
+// convergenceErrors returns, for each mesh pair, the normalised L2 error of the
+// conservative map of the given order applied to the exact source means, against the
+// exact target means.
+func convergenceErrors(t testing.TB, meshes [][2]*grids.Mesh, srcMeans, tgtMeans [][]float64, order int) []float64 {
+	t.Helper()
+	var errs []float64
+	for i, mm := range meshes {
+		w, err := Build(mm[0], mm[1], Options{Method: Conservative, Order: order})
+		if err != nil {
+			t.Fatal(err)
+		}
+		got := make([]float64, w.W.Rows)
+		w.ApplyTo(got, srcMeans[i])
+		errs = append(errs, l2Error(mm[1].CellArea, got, tgtMeans[i]))
+	}
+	return errs
 }

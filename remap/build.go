@@ -59,17 +59,8 @@ var ErrBadOptions = errors.New("bad map options")
 // no unmasked source covers get empty rows and coverage 0: they are marked, and an apply
 // step writes the fill value there, never a silent zero.
 func Build(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) {
-	if opt.Normalization == "" {
-		opt.Normalization = ByCovered
-	}
-	if opt.Normalization != ByCovered && opt.Normalization != ByWhole {
-		return nil, fmt.Errorf("%w: normalization %q (want %q or %q)", ErrBadOptions, opt.Normalization, ByCovered, ByWhole)
-	}
-	if opt.SourceMask != nil && len(opt.SourceMask) != src.NumCells() {
-		return nil, fmt.Errorf("%w: source mask has %d values for %d cells", ErrBadOptions, len(opt.SourceMask), src.NumCells())
-	}
-	if opt.TargetMask != nil && len(opt.TargetMask) != tgt.NumCells() {
-		return nil, fmt.Errorf("%w: target mask has %d values for %d cells", ErrBadOptions, len(opt.TargetMask), tgt.NumCells())
+	if err := opt.checkCells(src, tgt); err != nil {
+		return nil, err
 	}
 	var (
 		m   *weights.Map
@@ -115,4 +106,22 @@ func cellSide(m *grids.Mesh, coverage []float64) weights.Side {
 		Measure:         m.CellArea,
 		Coverage:        coverage,
 	}
+}
+
+// checkCells fills in the default normalisation and checks it and the masks' lengths
+// against the two meshes' cells.
+func (opt *Options) checkCells(src, tgt *grids.Mesh) error {
+	if opt.Normalization == "" {
+		opt.Normalization = ByCovered
+	}
+	if opt.Normalization != ByCovered && opt.Normalization != ByWhole {
+		return fmt.Errorf("%w: normalization %q (want %q or %q)", ErrBadOptions, opt.Normalization, ByCovered, ByWhole)
+	}
+	if opt.SourceMask != nil && len(opt.SourceMask) != src.NumCells() {
+		return fmt.Errorf("%w: source mask has %d values for %d cells", ErrBadOptions, len(opt.SourceMask), src.NumCells())
+	}
+	if opt.TargetMask != nil && len(opt.TargetMask) != tgt.NumCells() {
+		return fmt.Errorf("%w: target mask has %d values for %d cells", ErrBadOptions, len(opt.TargetMask), tgt.NumCells())
+	}
+	return nil
 }

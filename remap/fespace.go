@@ -197,17 +197,8 @@ type fePiece struct {
 // Normalization, SourceMask, TargetMask (per cell), Workers, Done and Provenance apply;
 // Method and Order are ignored (Method FEQuadrature, Order 2 for dg1 and 3 for cg2).
 func BuildFESpace(src *grids.Mesh, space grids.HLocation, tgt *grids.Mesh, opt Options) (*weights.Map, error) {
-	if opt.Normalization == "" {
-		opt.Normalization = ByCovered
-	}
-	if opt.Normalization != ByCovered && opt.Normalization != ByWhole {
-		return nil, fmt.Errorf("%w: normalization %q (want %q or %q)", ErrBadOptions, opt.Normalization, ByCovered, ByWhole)
-	}
-	if opt.SourceMask != nil && len(opt.SourceMask) != src.NumCells() {
-		return nil, fmt.Errorf("%w: source mask has %d values for %d cells", ErrBadOptions, len(opt.SourceMask), src.NumCells())
-	}
-	if opt.TargetMask != nil && len(opt.TargetMask) != tgt.NumCells() {
-		return nil, fmt.Errorf("%w: target mask has %d values for %d cells", ErrBadOptions, len(opt.TargetMask), tgt.NumCells())
+	if err := opt.checkCells(src, tgt); err != nil {
+		return nil, err
 	}
 	bs, err := feBases(src, space)
 	if err != nil {

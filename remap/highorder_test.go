@@ -253,16 +253,7 @@ func TestHighOrderConvergence(t *testing.T) {
 			tgtMeans = append(tgtMeans, exactMeans(mm[1], st.f, 8))
 		}
 		for _, order := range []int{3, 4} {
-			var errs []float64
-			for i, mm := range meshes {
-				w, err := Build(mm[0], mm[1], Options{Method: Conservative, Order: order})
-				if err != nil {
-					t.Fatal(err)
-				}
-				got := make([]float64, w.W.Rows)
-				w.ApplyTo(got, srcMeans[i])
-				errs = append(errs, l2Error(mm[1].CellArea, got, tgtMeans[i]))
-			}
+			errs := convergenceErrors(t, meshes, srcMeans, tgtMeans, order)
 			o1 := math.Log2(errs[0] / errs[1])
 			o2 := math.Log2(errs[1] / errs[2])
 			observed := o2
