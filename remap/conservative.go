@@ -86,6 +86,12 @@ func buildConservative(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) 
 		}
 		emit(int32(s), a*inv)
 	})
+	return conservativeMap(w, src, tgt, srcCov, tgtCov, opt), nil
+}
+
+// conservativeMap wraps a conservative matrix between the cells of src and tgt with its
+// sides and metadata; the normalisation is recorded only where coverage is partial.
+func conservativeMap(w *weights.CSR, src, tgt *grids.Mesh, srcCov, tgtCov []float64, opt Options) *weights.Map {
 	m := &weights.Map{
 		W:      w,
 		Source: cellSide(src, srcCov),
@@ -96,7 +102,7 @@ func buildConservative(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) 
 	if anyPartial(tgtCov) || anyPartial(srcCov) {
 		m.Normalization = opt.Normalization
 	}
-	return m, nil
+	return m
 }
 
 func anyPartial(cov []float64) bool {

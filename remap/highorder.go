@@ -209,17 +209,7 @@ func buildHighOrder(src, tgt *grids.Mesh, opt Options) (*weights.Map, error) {
 			colIdx[t], rowVals[t] = cols, vs
 		}
 	})
-	m := &weights.Map{
-		W:      weights.FromRows(nt, ns, colIdx, rowVals),
-		Source: cellSide(src, srcCov),
-		Target: cellSide(tgt, tgtCov),
-		Method: Conservative,
-		Order:  opt.Order,
-	}
-	if anyPartial(tgtCov) || anyPartial(srcCov) {
-		m.Normalization = opt.Normalization
-	}
-	return m, nil
+	return conservativeMap(weights.FromRows(nt, ns, colIdx, rowVals), src, tgt, srcCov, tgtCov, opt), nil
 }
 
 // coverages returns the covered share of every source and target cell and the number
