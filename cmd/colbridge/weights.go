@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"runtime/debug"
 	"path/filepath"
 	"strings"
 	"sync/atomic"
@@ -30,6 +31,7 @@ func runWeights(args []string, e *env) error {
 	plan := fs.String("plan", "", "coupling plan (TOML): build every map of the coupling into a bundle directory")
 	out := fs.StringP("output", "o", "", "the map file to write (NetCDF; Matrix Market when the name ends in .mtx), or with --plan the bundle directory")
 	workers := fs.Int("workers", 0, "goroutines to use (0: all cores); the map file is identical for any value")
+	memory := fs.String("memory", "1536MiB", "soft limit on the heap (e.g. 1GiB, 4GiB): the collector works harder near it; the work never fails for it")
 	quiet := fs.BoolP("quiet", "q", false, "no progress bar and no summary line")
 	if err := parse(fs, args, e); err != nil {
 		return err
@@ -40,6 +42,11 @@ func runWeights(args []string, e *env) error {
 	if *out == "" {
 		return usagef("weights: say where to write with -o")
 	}
+	limit, err := parseBytes(*memory)
+	if err != nil {
+		return usagef("weights: --memory: %v", err)
+	}
+	debug.SetMemoryLimit(limit)
 	if *plan != "" {
 		if *src != "" || *tgt != "" {
 			return usagef("weights: --plan names the meshes itself; do not also give --source or --target")
