@@ -72,8 +72,11 @@ type FieldAccuracy struct {
 // fields, compared with exact target cell means.
 type AccuracyReport struct {
 	// Quadrature is the Gauss–Legendre order per direction of the exact cell means.
-	Quadrature int             `json:"quadrature"`
-	Fields     []FieldAccuracy `json:"fields"`
+	Quadrature int `json:"quadrature"`
+	// SampledTargets is the number of targets the norms were computed on: all covered
+	// targets, or an evenly spaced sample of them on large maps (see Options).
+	SampledTargets int             `json:"sampled_targets"`
+	Fields         []FieldAccuracy `json:"fields"`
 	// MaxL1, MaxL2 and MaxLInf are the largest norms over the fields.
 	MaxL1   float64 `json:"max_l1"`
 	MaxL2   float64 `json:"max_l2"`
@@ -92,23 +95,64 @@ func (a *AccuracyReport) LocalError() ([]float64, string) { return a.errorMap, a
 // CheckAccuracy applies w (target × source) to the exact cell means of each field on the
 // source mesh and compares with the exact cell means on the target mesh, weighting by
 // the target measures mt over the covered targets (nil: all). n is the quadrature order.
-func CheckAccuracy(w *weights.CSR, src, tgt *grids.Mesh, mt []float64, covered []bool, fields []TestField, n int) (*AccuracyReport, error) {
+// sample > 0 limits the check to every k-th covered target, k = ⌈covered/sample⌉, and to
+// the sources their rows use: the norms are then estimates over an evenly spread sample
+// (l∞ normalised by the sample's largest value) and the exact means cost in proportion
+// to the sample, not the map.
+func CheckAccuracy(w *weights.CSR, src, tgt *grids.Mesh, mt []float64, covered []bool, fields []TestField, n, sample int) (*AccuracyReport, error) {
 	if src.NumCells() != w.Cols || tgt.NumCells() != w.Rows {
 		return nil, fmt.Errorf("accuracy: map is %d × %d but the meshes have %d target and %d source cells", w.Rows, w.Cols, tgt.NumCells(), src.NumCells())
 	}
 	rep := &AccuracyReport{Quadrature: n}
+	// The targets checked, and the sources their rows use.
+	var rows, cols []int32
+	nCovered := 0
+	for t := 0; t < w.Rows; t++ {
+		if covered == nil || covered[t] {
+			nCovered++
+		}
+	}
+	stride := 1
+	if sample > 0 && nCovered > sample {
+		stride = (nCovered + sample - 1) / sample
+	}
+	use := make([]bool, w.Rows)
+	k := 0
+	for t := 0; t < w.Rows; t++ {
+		if covered == nil || covered[t] {
+			if k%stride == 0 {
+				use[t] = true
+				rows = append(rows, int32(t))
+			}
+			k++
+		}
+	}
+	rep.SampledTargets = len(rows)
+	if stride > 1 {
+		mark := make([]bool, w.Cols)
+		for _, t := range rows {
+			for p := w.RowStart[t]; p < w.RowStart[t+1]; p++ {
+				if c := w.ColIndex[p]; !mark[c] {
+					mark[c] = true
+					cols = append(cols, c)
+				}
+			}
+		}
+	} else {
+		rows = nil
+	}
 	fs := make([]float64, w.Cols)
 	ft := make([]float64, w.Rows)
 	h := make([]float64, w.Rows)
 	for i, f := range fields {
-		if err := CellMeansTo(fs, src, f.Eval, n); err != nil {
+		if err := cellMeansOf(fs, src, cols, f.Eval, n); err != nil {
 			return nil, fmt.Errorf("accuracy: field %s: %w", f.Name, err)
 		}
-		if err := CellMeansTo(ft, tgt, f.Eval, n); err != nil {
+		if err := cellMeansOf(ft, tgt, rows, f.Eval, n); err != nil {
 			return nil, fmt.Errorf("accuracy: field %s: %w", f.Name, err)
 		}
 		w.ApplyTo(h, fs)
-		en := Norms(h, ft, mt, covered)
+		en := Norms(h, ft, mt, use)
 		rep.Fields = append(rep.Fields, FieldAccuracy{Name: f.Name, ErrorNorms: en})
 		rep.MaxL1 = math.Max(rep.MaxL1, en.L1)
 		rep.MaxL2 = math.Max(rep.MaxL2, en.L2)
@@ -116,7 +160,7 @@ func CheckAccuracy(w *weights.CSR, src, tgt *grids.Mesh, mt []float64, covered [
 		if i == 0 {
 			tmax := 0.0
 			for t, v := range ft {
-				if covered == nil || covered[t] {
+				if use[t] {
 					tmax = math.Max(tmax, math.Abs(v))
 				}
 			}
@@ -127,7 +171,7 @@ func CheckAccuracy(w *weights.CSR, src, tgt *grids.Mesh, mt []float64, covered [
 			rep.errorField = f.Name
 			for t := range h {
 				rep.errorMap[t] = math.NaN()
-				if covered == nil || covered[t] {
+				if use[t] {
 					rep.errorMap[t] = (h[t] - ft[t]) / tmax
 				}
 			}

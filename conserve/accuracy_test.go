@@ -153,12 +153,12 @@ func TestObservedOrderFirstOrder(t *testing.T) {
 		coarse, fine := planeQuads(t, n), planeQuads(t, 2*n)
 		w := coarsen2(n)
 		p := Adjoint(w, fine.CellArea, coarse.CellArea)
-		a, err := CheckAccuracy(p, coarse, fine, fine.CellArea, nil, f, 8)
+		a, err := CheckAccuracy(p, coarse, fine, fine.CellArea, nil, f, 8, 0)
 		if err != nil {
 			t.Fatal(err)
 		}
 		up = append(up, ConvergenceLevel{H: MeanCellSize(coarse), Fields: a.Fields})
-		d, err := CheckAccuracy(w, fine, coarse, coarse.CellArea, nil, f, 8)
+		d, err := CheckAccuracy(w, fine, coarse, coarse.CellArea, nil, f, 8, 0)
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -181,5 +181,30 @@ func TestObservedOrderFirstOrder(t *testing.T) {
 	}
 	if _, ok := ObservedOrder([]float64{1, 0.5}, []float64{0, 0}); ok {
 		t.Error("ObservedOrder with zero errors reports an order")
+	}
+}
+
+// TestAccuracySample: on an evenly spaced sample of the targets the l2 norm agrees with
+// the full evaluation to a few per cent (sampling error ~ 1/√sample for a smooth error
+// field; common practice), and so does l∞ (a maximum over the sample, normalised by the
+// sample's own largest value).
+func TestAccuracySample(t *testing.T) {
+	fine, coarse := planeQuads(t, 64), planeQuads(t, 32)
+	w := coarsen2(32)
+	p := Adjoint(w, fine.CellArea, coarse.CellArea)
+	f := DefaultFields(grids.Plane, 1, 1)[:1]
+	full, err := CheckAccuracy(p, coarse, fine, fine.CellArea, nil, f, 8, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	part, err := CheckAccuracy(p, coarse, fine, fine.CellArea, nil, f, 8, 500)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if part.SampledTargets > 600 || full.SampledTargets != fine.NumCells() {
+		t.Fatalf("sampled %d and %d targets", part.SampledTargets, full.SampledTargets)
+	}
+	if rel := math.Abs(part.MaxL2-full.MaxL2) / full.MaxL2; rel > 0.05 || math.Abs(part.MaxLInf-full.MaxLInf) > 0.05*full.MaxLInf {
+		t.Errorf("sample l2 %.4g vs full %.4g (rel %.2g); l∞ %.4g vs %.4g", part.MaxL2, full.MaxL2, rel, part.MaxLInf, full.MaxLInf)
 	}
 }

@@ -67,10 +67,10 @@ func Audit(m *weights.Map, opt Options) (*Report, error) {
 		tgtFields = sourceFields(nt, nil, nil, opt.seed()+10)
 	}
 	if srcMesh != nil {
-		r.sourcePoints = pointsOf(srcMesh)
+		r.sourceMesh = srcMesh
 	}
 	if tgtMesh != nil {
-		r.targetPoints = pointsOf(tgtMesh)
+		r.targetMesh = tgtMesh
 	}
 
 	ms, mt := m.Source.Measure, m.Target.Measure
@@ -148,7 +148,7 @@ func Audit(m *weights.Map, opt Options) (*Report, error) {
 		if srcMesh.Surface != tgtMesh.Surface {
 			note("accuracy not checked: the meshes lie on different surfaces")
 		} else {
-			acc, err := CheckAccuracy(w, srcMesh, tgtMesh, mt, covered, fields, opt.quadrature())
+			acc, err := CheckAccuracy(w, srcMesh, tgtMesh, mt, covered, fields, opt.quadrature(srcMesh, tgtMesh), opt.accuracySample())
 			if err != nil {
 				note("accuracy not checked: %v", err)
 			} else {

@@ -33,6 +33,12 @@ func CellMeansTo(dst []float64, m *grids.Mesh, f analytic.Field, n int) error {
 	if len(dst) != m.NumCells() || n < 1 {
 		panic("conserve: CellMeansTo: wrong length or order")
 	}
+	return cellMeansOf(dst, m, nil, f, n)
+}
+
+// cellMeansOf sets dst[c] for the listed cells (all when cells is nil) and leaves the
+// other entries alone.
+func cellMeansOf(dst []float64, m *grids.Mesh, cells []int32, f analytic.Field, n int) error {
 	var gx, gw []float64
 	if m.Surface == grids.Plane {
 		gx, gw = make([]float64, n), make([]float64, n)
@@ -41,9 +47,17 @@ func CellMeansTo(dst []float64, m *grids.Mesh, f analytic.Field, n int) error {
 	var mu sync.Mutex
 	var first error
 	firstCell := math.MaxInt
-	par.For(m.NumCells(), 0, 64, func(lo, hi int) {
+	count := m.NumCells()
+	if cells != nil {
+		count = len(cells)
+	}
+	par.For(count, 0, 64, func(lo, hi int) {
 		var buf []r3.Vec
-		for c := lo; c < hi; c++ {
+		for i := lo; i < hi; i++ {
+			c := i
+			if cells != nil {
+				c = int(cells[i])
+			}
 			var v float64
 			var err error
 			switch {

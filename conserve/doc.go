@@ -131,6 +131,8 @@
 //	  worst_mode_max_at, steps, restarts
 //	accuracy                  null unless both sides are cell meshes:
 //	  quadrature       Gauss–Legendre order per direction of the exact cell means
+//	  sampled_targets  targets the norms were computed on (an evenly spaced sample of
+//	                   at most Options.AccuracySample, 20,000 by default, on large maps)
 //	  fields           list of {name, l1, l2, linf, linf_at}
 //	  max_l1, max_l2, max_linf
 //	convergence               null unless attached by the caller (Convergence):

@@ -479,11 +479,11 @@ func degreeTicks(lo, hi, step float64) []plot.Tick {
 
 func plotErrorMap(r *Report) (*Plot, error) {
 	a := r.Accuracy
-	if a == nil || a.errorMap == nil || r.targetPoints == nil {
+	if a == nil || a.errorMap == nil || r.targetPoints() == nil {
 		return nil, nil
 	}
 	png, err := mapPlot(fmt.Sprintf("Local error on target cells, field %q", a.errorField),
-		"error / max|f|", r.targetPoints, a.errorMap)
+		"error / max|f|", r.targetPoints(), a.errorMap)
 	if err != nil || png == nil {
 		return nil, err
 	}
@@ -543,8 +543,8 @@ func plotNullMode(r *Report) (*Plot, error) {
 	default:
 		return nil, nil
 	}
-	if r.sourcePoints != nil && len(r.sourcePoints.x) == len(mode) {
-		png, err := mapPlot("Invisible mode: "+what, "mode value", r.sourcePoints, mode)
+	if r.sourcePoints() != nil && len(r.sourcePoints().x) == len(mode) {
+		png, err := mapPlot("Invisible mode: "+what, "mode value", r.sourcePoints(), mode)
 		if err != nil || png == nil {
 			return nil, err
 		}

@@ -1,5 +1,7 @@
 package conserve
 
+import "github.com/colbridge/colbridge/grids"
+
 // SchemaVersion names the layout of the JSON report. It changes only when a key is removed
 // or changes meaning; new keys may be added without changing it.
 const SchemaVersion = "colbridge.audit/1"
@@ -49,8 +51,8 @@ type Report struct {
 	Notes []string `json:"notes"`
 
 	// Plot data (not in the JSON).
-	sourcePoints *meshPoints // cell centroids of the source mesh, or nil
-	targetPoints *meshPoints // cell centroids of the target mesh, or nil
+	sourceMesh, targetMesh *grids.Mesh // the cell meshes of the two sides, or nil
+	sourcePts, targetPts   *meshPoints // their drawing data, made when a plot needs it
 }
 
 // SideInfo describes one side of the audited map.
@@ -233,4 +235,20 @@ type Failure struct {
 	Value  *float64 `json:"value"`
 	Limit  float64  `json:"limit"`
 	Reason string   `json:"reason"`
+}
+
+// sourcePoints returns the drawing data of the source cells (nil without a mesh).
+func (r *Report) sourcePoints() *meshPoints {
+	if r.sourcePts == nil && r.sourceMesh != nil {
+		r.sourcePts = pointsOf(r.sourceMesh)
+	}
+	return r.sourcePts
+}
+
+// targetPoints returns the drawing data of the target cells (nil without a mesh).
+func (r *Report) targetPoints() *meshPoints {
+	if r.targetPts == nil && r.targetMesh != nil {
+		r.targetPts = pointsOf(r.targetMesh)
+	}
+	return r.targetPts
 }

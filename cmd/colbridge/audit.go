@@ -65,17 +65,9 @@ func runAudit(args []string, e *env) error {
 		mergeThresholds(&th, s)
 	}
 	opt := conserve.Options{Spectral: *spectral, Thresholds: th}
-	var sm, tm *grids.Mesh
-	var err error
-	if *src != "" {
-		if sm, err = grids.ReadMesh(*src); err != nil {
-			return err
-		}
-	}
-	if *tgt != "" {
-		if tm, err = grids.ReadMesh(*tgt); err != nil {
-			return err
-		}
+	sm, tm, err := readMeshPair(*src, *tgt)
+	if err != nil {
+		return err
 	}
 
 	switch {
@@ -218,4 +210,25 @@ func mergeThresholds(t *conserve.Thresholds, s conserve.Thresholds) {
 	set(&t.MaxMassError, s.MaxMassError)
 	set(&t.MaxOvershoot, s.MaxOvershoot)
 	t.NoNegativeWeights = t.NoNegativeWeights || s.NoNegativeWeights
+}
+
+// readMeshPair reads the mesh files that are named ("" means none), both at once: the
+// NetCDF reads are serialised anyway, but building the meshes' geometry runs side by side.
+func readMeshPair(a, b string) (ma, mb *grids.Mesh, err error) {
+	var errA, errB error
+	done := make(chan struct{})
+	go func() {
+		defer close(done)
+		if b != "" {
+			mb, errB = grids.ReadMesh(b)
+		}
+	}()
+	if a != "" {
+		ma, errA = grids.ReadMesh(a)
+	}
+	<-done
+	if errA != nil {
+		return nil, nil, errA
+	}
+	return ma, mb, errB
 }
