@@ -2,8 +2,8 @@ package main
 
 import (
 	"fmt"
-	"runtime/debug"
 	"path/filepath"
+	"runtime/debug"
 	"strings"
 	"sync/atomic"
 	"time"
