@@ -54,6 +54,9 @@ type ApplyOptions struct {
 	TargetMesh string
 	// History is the command line recorded in the outputs' history attribute.
 	History string
+	// NoSync skips the fsync before each output is renamed into place (see
+	// ncio.CreateOptions.NoSync): outputs still appear only when complete.
+	NoSync bool
 	// Progress, if not nil, is increased by the bytes of input read.
 	Progress *atomic.Int64
 }
@@ -190,7 +193,7 @@ func (a *Applier) applyFile(inPath, outPath string, opt ApplyOptions, res *FileR
 			return fmt.Errorf("%s: %w", inPath, err)
 		}
 	}
-	w, err := ncio.Create(outPath, ncio.CreateOptions{Format: ncio.NetCDF4})
+	w, err := ncio.Create(outPath, ncio.CreateOptions{Format: ncio.NetCDF4, NoSync: opt.NoSync})
 	if err != nil {
 		return err
 	}

@@ -31,6 +31,7 @@ func runApply(args []string, e *env) error {
 	workers := fs.Int("workers", 0, "goroutines for the arithmetic (0: all cores)")
 	parallel := fs.Int("parallel-files", 2, "input files processed at the same time (they share the memory budget)")
 	skip := fs.Bool("skip-existing", false, "leave outputs that already exist alone (for re-runs)")
+	noSync := fs.Bool("no-sync", false, "do not fsync outputs before renaming them into place (faster, e.g. on parallel file systems; outputs still appear only when complete, but a power failure may leave an empty one)")
 	bounds := fs.Bool("bounds", false, "keep each target value within the range of the source values its map row uses, keeping the integral (clip-and-assured-sum, Bradley et al. 2019); for maps of order 2 and higher")
 	targetMesh := fs.String("target-mesh", "", "mesh file of the target whose UGRID topology goes into the outputs (default: the bundle's, when found beside it)")
 	quiet := fs.BoolP("quiet", "q", false, "no progress bar and no summary lines (failures are still reported)")
@@ -99,7 +100,7 @@ func runApply(args []string, e *env) error {
 	}
 	var done atomic.Int64
 	opt := remap.ApplyOptions{
-		Vars: *vars, Direction: *direction, Type: *typ, Deflate: *deflate, Memory: budget,
+		Vars: *vars, Direction: *direction, Type: *typ, Deflate: *deflate, Memory: budget, NoSync: *noSync,
 		Workers: *workers, Bounds: *bounds, TargetMesh: *targetMesh,
 		History: strings.Join(contentArgs(e.args), " "), Progress: &done,
 	}

@@ -60,7 +60,7 @@ func BenchmarkApplyEndToEnd(b *testing.B) {
 				"--order", strconv.Itoa(order), "-q", "-o", m).CombinedOutput(); err != nil {
 				b.Fatalf("weights: %v\n%s", err, out)
 			}
-			var tApply, tCopy, tCopySync, rss []float64
+			var tApply, tNoSync, tCopy, tCopySync, rss []float64
 			load := loadAvg()
 			for b.Loop() {
 				for range reps {
@@ -91,6 +91,14 @@ func BenchmarkApplyEndToEnd(b *testing.B) {
 						rss = append(rss, float64(ru.Maxrss)/1024) // KiB on Linux
 					}
 					must(b, os.RemoveAll(out))
+
+					// The same without fsync, like nccopy.
+					t0 = time.Now()
+					if out, err := exec.Command(bin, "apply", "-q", "--no-sync", "--map", m, "--out-dir", out, "--memory", "512MiB", in).CombinedOutput(); err != nil {
+						b.Fatalf("apply --no-sync: %v\n%s", err, out)
+					}
+					tNoSync = append(tNoSync, time.Since(t0).Seconds())
+					must(b, os.RemoveAll(out))
 				}
 			}
 			load = (load + loadAvg()) / 2
@@ -100,6 +108,8 @@ func BenchmarkApplyEndToEnd(b *testing.B) {
 			b.ReportMetric(ma/mc, "ratio")
 			b.ReportMetric(ms, "nccopy+sync-s")
 			b.ReportMetric(ma/ms, "ratio-sync")
+			b.ReportMetric(med(tNoSync), "nosync-s")
+			b.ReportMetric(med(tNoSync)/mc, "ratio-nosync")
 			b.ReportMetric(float64(st.Size())/(1<<20)/ma, "MiB/s")
 			b.ReportMetric(budget>>20, "budget-MiB")
 			b.ReportMetric(load, "load1")

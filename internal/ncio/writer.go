@@ -28,6 +28,11 @@ const (
 // CreateOptions configures Create. The zero value gives a NetCDF-4 file.
 type CreateOptions struct {
 	Format Format
+	// NoSync skips the fsync of the file and of its directory in Commit: the file still
+	// appears only when complete (the rename), but after a power failure (not a crash of
+	// the program) its name may survive with its data lost. Parallel file systems make
+	// fsync expensive; batch jobs that rerun on failure may prefer speed.
+	NoSync bool
 }
 
 // Writer writes a new NetCDF file under a temporary name in the target's
@@ -45,6 +50,7 @@ type Writer struct {
 	path   string // final name
 	tmp    string
 	format Format
+	noSync bool
 	failAt int // write call number that fails (InjectWriteFault); 0 never
 
 	// Only the I/O goroutine touches the fields below.
@@ -92,7 +98,7 @@ func InjectWriteFault(after int) (restore func()) {
 // NOCLOBBER so that no existing file is ever overwritten before Commit.
 // An existing file at path is replaced atomically by Commit.
 func Create(path string, opts CreateOptions) (*Writer, error) {
-	w := &Writer{path: path, format: opts.Format, define: true, vars: make(map[string]*wvar)}
+	w := &Writer{path: path, format: opts.Format, noSync: opts.NoSync, define: true, vars: make(map[string]*wvar)}
 	if strings.IndexByte(path, 0) >= 0 {
 		return nil, w.errorf("create", "", "", ErrInvalid, "path contains a NUL byte", nil)
 	}
@@ -428,13 +434,18 @@ func (w *Writer) Commit() error {
 	if err != nil {
 		return err
 	}
-	if e := syncPath(w.tmp); e != nil {
-		os.Remove(w.tmp)
-		return w.errorf("commit", "", "", nil, "syncing "+w.tmp, unwrapPathError(e))
+	if !w.noSync {
+		if e := syncPath(w.tmp); e != nil {
+			os.Remove(w.tmp)
+			return w.errorf("commit", "", "", nil, "syncing "+w.tmp, unwrapPathError(e))
+		}
 	}
 	if e := os.Rename(w.tmp, w.path); e != nil {
 		os.Remove(w.tmp)
 		return w.errorf("commit", "", "", nil, "renaming "+w.tmp, e)
+	}
+	if w.noSync {
+		return nil
 	}
 	if e := syncPath(filepath.Dir(w.path)); e != nil {
 		return w.errorf("commit", "", "", nil, "file written, but syncing its directory failed", unwrapPathError(e))
