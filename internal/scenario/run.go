@@ -138,13 +138,11 @@ func (s Scenario) Run(dir string, w io.Writer) error {
 	if err != nil {
 		return err
 	}
-	fmt.Fprintf(w, "  plots in %s/: %v\n\n", PlotsDir, plots)
-	if err := WriteLedger(w, rows); err != nil {
-		return err
-	}
-	fmt.Fprintf(w, "\ndone in %.1f s. Open %s/index.html for the audit and %s/ for the maps.\n", time.Since(t0).Seconds(), filepath.Join(dir, AuditDir), filepath.Join(dir, PlotsDir))
+	fmt.Fprintf(w, "  plots in %s/: %v\n", PlotsDir, plots)
+	fmt.Fprintf(w, "done in %.1f s. Open %s for the audit and %s/ for the maps.\n", time.Since(t0).Seconds(), filepath.Join(dir, AuditDir, "index.html"), filepath.Join(dir, PlotsDir))
 	fmt.Fprintln(w, "colbridge checks numerics, not forecast skill; operational use follows the centre's own validation.")
-	return nil
+	fmt.Fprintln(w)
+	return WriteLedger(w, rows)
 }
 
 func valuesOf(fr *remap.FileResult) int64 {
