@@ -64,8 +64,8 @@ func (s Scenario) Run(dir string, w io.Writer) error {
 		fmt.Fprintf(w, "  note: %s\n", warn)
 	}
 
-	fmt.Fprintf(w, "3. audit of the bundle, report in %s/index.html\n", AuditDir)
-	br, err := conserve.AuditBundle(filepath.Join(dir, BundleDir), conserve.Options{})
+	fmt.Fprintf(w, "3. audit of the bundle (with the noise, damping and invisible-mode analyses), report in %s/index.html\n", AuditDir)
+	br, err := conserve.AuditBundle(filepath.Join(dir, BundleDir), conserve.Options{Spectral: true})
 	if err != nil {
 		return err
 	}
@@ -81,6 +81,9 @@ func (s Scenario) Run(dir string, w io.Writer) error {
 		pair := ""
 		if r.Pair != nil {
 			pair = fmt.Sprintf(", prolongation vs adjoint %.1e", r.Pair.RelativeDifference)
+		}
+		if ns := r.NullSpace; ns != nil && ns.Dimension > 0 && ns.Exact {
+			pair += fmt.Sprintf(", %d invisible mode(s)", ns.Dimension)
 		}
 		if r.VectorComponent {
 			fmt.Fprintf(w, "  %-34s vector component (scalar sums do not apply)%s\n", m.Name, pair)
