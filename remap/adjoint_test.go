@@ -335,18 +335,7 @@ func TestAdjointPerotIsAverage(t *testing.T) {
 func TestAdjointPerotSkew(t *testing.T) {
 	v := r3.Vec{X: 0.8, Y: -1.9}
 	for name, m := range planeMeshes(t) {
-		east, north, err := ColumnWinds(m, nil, grids.EdgeNormal, Options{})
-		if err != nil {
-			t.Fatal(err)
-		}
-		pe, err := Adjoint(east)
-		if err != nil {
-			t.Fatal(err)
-		}
-		pn, err := Adjoint(north)
-		if err != nil {
-			t.Fatal(err)
-		}
+		pe, pn := windAdjoints(t, m)
 		vx := make([]float64, m.NumCells())
 		vy := make([]float64, m.NumCells())
 		for c := range vx {
@@ -452,18 +441,7 @@ func TestProlongationTC2(t *testing.T) {
 		for k := range 3 {
 			m, err := f.gen(k)
 			mustMesh(t, m, err)
-			east, north, err := ColumnWinds(m, nil, grids.EdgeNormal, Options{})
-			if err != nil {
-				t.Fatal(err)
-			}
-			pe, err := Adjoint(east)
-			if err != nil {
-				t.Fatal(err)
-			}
-			pn, err := Adjoint(north)
-			if err != nil {
-				t.Fatal(err)
-			}
+			pe, pn := windAdjoints(t, m)
 			ae, an, err := AveragedEdgeNormal(m, nil, Options{})
 			if err != nil {
 				t.Fatal(err)
@@ -606,4 +584,21 @@ func TestCompose(t *testing.T) {
 	if _, err := Compose(b, vc); !errors.Is(err, ErrMismatch) {
 		t.Errorf("mismatched composition: err = %v", err)
 	}
+}
+
+// windAdjoints returns the adjoints of the two components of the wind restriction of m
+// onto its own cells (ColumnWinds from edge normals).
+func windAdjoints(t testing.TB, m *grids.Mesh) (pe, pn *weights.Map) {
+	t.Helper()
+	east, north, err := ColumnWinds(m, nil, grids.EdgeNormal, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if pe, err = Adjoint(east); err != nil {
+		t.Fatal(err)
+	}
+	if pn, err = Adjoint(north); err != nil {
+		t.Fatal(err)
+	}
+	return pe, pn
 }
